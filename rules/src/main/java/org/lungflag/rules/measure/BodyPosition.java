@@ -1,0 +1,7 @@
+package org.lungflag.rules.measure;
+
+public enum BodyPosition {
+    PRONE,
+    SUPINE,
+    OTHER
+}

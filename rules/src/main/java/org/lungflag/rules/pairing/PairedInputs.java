@@ -1,0 +1,99 @@
+package org.lungflag.rules.pairing;
+
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Comparator;
+import java.util.EnumMap;
+import java.util.LinkedHashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Optional;
+import java.util.Set;
+import org.lungflag.rules.measure.Measurement;
+import org.lungflag.rules.measure.PositionState;
+import org.lungflag.rules.measure.QuantityKind;
+import org.lungflag.rules.measure.SupportState;
+
+/**
+ * What was in force at one anchor time: for each kind, the latest setting and the latest measurement within
+ * their look-backs, the respiratory support and body position, and the body measures on record. It says what it
+ * used and what was missing.
+ */
+public final class PairedInputs {
+
+    private final Instant anchor;
+    private final Map<QuantityKind, Measurement> settings;
+    private final Map<QuantityKind, Measurement> measured;
+    private final SupportState support;
+    private final PositionState position;
+    private final List<MissingInput> missing;
+
+    PairedInputs(
+            Instant anchor,
+            Map<QuantityKind, Measurement> settings,
+            Map<QuantityKind, Measurement> measured,
+            SupportState support,
+            PositionState position,
+            List<MissingInput> missing) {
+        this.anchor = anchor;
+        this.settings = settings.isEmpty() ? Map.of() : new EnumMap<>(settings);
+        this.measured = measured.isEmpty() ? Map.of() : new EnumMap<>(measured);
+        this.support = support;
+        this.position = position;
+        this.missing = List.copyOf(missing);
+    }
+
+    /** The anchor (blood gas collection time, or the reading that triggered the evaluation). */
+    public Instant anchor() {
+        return anchor;
+    }
+
+    /** The latest setting of a kind within the setting look-back. */
+    public Optional<Measurement> setting(QuantityKind kind) {
+        return Optional.ofNullable(settings.get(kind));
+    }
+
+    /** The latest measurement of a kind within the measurement look-back. */
+    public Optional<Measurement> measured(QuantityKind kind) {
+        return Optional.ofNullable(measured.get(kind));
+    }
+
+    /** The more recent of {@link #setting} and {@link #measured}; on a tie, the measurement. */
+    public Optional<Measurement> latest(QuantityKind kind) {
+        Measurement s = settings.get(kind);
+        Measurement m = measured.get(kind);
+        if (s == null) {
+            return Optional.ofNullable(m);
+        }
+        if (m == null) {
+            return Optional.of(s);
+        }
+        return Optional.of(s.time().isAfter(m.time()) ? s : m);
+    }
+
+    public Optional<SupportState> support() {
+        return Optional.ofNullable(support);
+    }
+
+    public Optional<PositionState> position() {
+        return Optional.ofNullable(position);
+    }
+
+    /** Kinds that were looked for and not found. */
+    public List<MissingInput> missing() {
+        return missing;
+    }
+
+    public boolean isMissing(QuantityKind kind) {
+        return missing.stream().anyMatch(m -> m.kind() == kind);
+    }
+
+    /** Every measurement the pairing found, in clinical order. */
+    public List<Measurement> all() {
+        Set<Measurement> all = new LinkedHashSet<>(settings.values());
+        all.addAll(measured.values());
+        List<Measurement> out = new ArrayList<>(all);
+        out.sort(Comparator.comparing(Measurement::time).thenComparing(Measurement::source));
+        return out;
+    }
+}
