@@ -1,0 +1,21 @@
+package org.lungflag.service.normalize;
+
+import ca.uhn.fhir.context.FhirContext;
+import java.util.Optional;
+import org.lungflag.service.intake.IntakeProperties;
+import org.springframework.context.annotation.Bean;
+import org.springframework.context.annotation.Configuration;
+
+@Configuration(proxyBeanMethods = false)
+class NormalizeConfiguration {
+
+    @Bean
+    CodeMap codeMap(FhirContext fhir, NormalizeProperties properties) {
+        return SiteCodeMap.load(fhir, CodeMap.standard(), Optional.ofNullable(properties.conceptMap()));
+    }
+
+    @Bean
+    ObservationMapper observationMapper(CodeMap codes, IntakeProperties intake) {
+        return new ObservationMapper(codes, intake.futureSkew());
+    }
+}
