@@ -125,6 +125,7 @@ CREATE TABLE outbox (
     last_error      VARCHAR,
     created_at      TIMESTAMP WITH TIME ZONE NOT NULL,
     delivered_at    TIMESTAMP WITH TIME ZONE,
+    step            VARCHAR(24),
     result_ref      VARCHAR(160)
 );
 CREATE INDEX outbox_pending ON outbox (status, next_attempt_at, id);
