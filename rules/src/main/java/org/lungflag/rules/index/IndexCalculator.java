@@ -6,6 +6,7 @@ import static org.lungflag.rules.quality.DataQualityReason.OUT_OF_FORMULA_RANGE;
 import static org.lungflag.rules.quality.DataQualityReason.SPECIMEN_UNSPECIFIED;
 import static org.lungflag.rules.quality.DataQualityReason.SPECIMEN_VENOUS;
 
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
 import java.util.Objects;
@@ -355,19 +356,22 @@ public final class IndexCalculator {
                     "height " + number(cm) + " cm gives a PBW of " + number(kg) + " kg (not positive)");
         }
         boolean shortStature = cm < 140;
+        boolean belowReference = cm < Formulas.PBW_REFERENCE_HEIGHT_CM;
         boolean minor = patient.birthDate() != null
                 && patient.ageInYearsAt(inputs.anchor()).orElse(18) < 18;
-        List<String> notes;
-        if (shortStature && minor) {
-            notes = List.of(NOTE_PBW_SHORT, NOTE_PBW_MINOR);
-        } else if (shortStature) {
-            notes = List.of(NOTE_PBW_SHORT);
-        } else if (minor) {
-            notes = List.of(NOTE_PBW_MINOR);
-        } else if (cm < Formulas.PBW_REFERENCE_HEIGHT_CM) {
-            notes = List.of(NOTE_PBW_NO_CLAMP);
-        } else {
-            notes = List.of();
+        List<String> notes = List.of();
+        if (shortStature || belowReference || minor) {
+            List<String> n = new ArrayList<>(3);
+            if (belowReference) {
+                n.add(NOTE_PBW_NO_CLAMP);
+            }
+            if (shortStature) {
+                n.add(NOTE_PBW_SHORT);
+            }
+            if (minor) {
+                n.add(NOTE_PBW_MINOR);
+            }
+            notes = List.copyOf(n);
         }
         return new IndexValue(def.code(), kg, def.formula(), List.of(height), notes);
     }
