@@ -86,7 +86,9 @@ final class ExpressionCompiler {
             declared.put(a.name(), t);
             declared.put(a.name() + "_available", VariableType.BOOL);
             declared.put(a.name() + "_count", VariableType.INT);
-            aggregateNames.add(a.name());
+            if (a.function() != AggregateFunction.COUNT) {
+                aggregateNames.add(a.name()); // a count is 0 when the window is empty, never NaN
+            }
         }
         this.compiler = b.build();
     }

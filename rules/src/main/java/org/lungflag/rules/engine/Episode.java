@@ -33,7 +33,7 @@ public record Episode(
         tierHistory = List.copyOf(tierHistory);
     }
 
-    static Episode start(String patientId, String ruleId, String version, String digest, Instant at, String tier) {
+    static Episode begin(String patientId, String ruleId, String version, String digest, Instant at, String tier) {
         return new Episode(
                 key(patientId, ruleId, at),
                 patientId,

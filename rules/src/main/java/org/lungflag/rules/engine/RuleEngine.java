@@ -66,6 +66,15 @@ public final class RuleEngine {
         this.texts = new Texts(settings.displayZone());
     }
 
+    /** The engine with the real index calculator, default site parameters and default settings. */
+    public static RuleEngine create(RuleCatalog catalog, ParameterOverrides overrides) {
+        return new RuleEngine(
+                catalog,
+                overrides,
+                new CalculatorIndexProvider(org.lungflag.rules.index.SiteParameters.defaults()),
+                EngineSettings.defaults());
+    }
+
     public RuleCatalog catalog() {
         return catalog;
     }
@@ -414,7 +423,7 @@ public final class RuleEngine {
             }
             if (qualified) {
                 outcome = Outcome.ONSET;
-                next = Episode.start(patientId, def.id(), def.version(), def.digest(), at, tier.code());
+                next = Episode.begin(patientId, def.id(), def.version(), def.digest(), at, tier.code());
             } else {
                 outcome = Outcome.NOT_MET;
                 next = null;

@@ -112,7 +112,9 @@ final class Texts {
             if (used != null) {
                 used.indices.put(iv.code(), iv);
                 for (Measurement m : iv.inputs()) {
-                    used.measurements.put(m.source(), m);
+                    if (m != null) {
+                        used.measurements.put(m.source(), m);
+                    }
                 }
             }
             return Template.formatNumber(iv.value(), ph.decimals());
@@ -157,7 +159,7 @@ final class Texts {
                 pieces.add(s);
             }
         }
-        String basis = String.join("; ", pieces);
+        String basis = String.join(", ", pieces);
         String advisory = "";
         if (active) {
             String a = render(rule.definition.logic().advisory(), scope, tier, episode, used);
@@ -177,7 +179,11 @@ final class Texts {
                     iv.value(),
                     iv.code().unit(),
                     iv.formula(),
-                    iv.inputs().stream().map(Measurement::source).toList()));
+                    iv.inputs().stream()
+                            .filter(java.util.Objects::nonNull)
+                            .map(Measurement::source)
+                            .toList(),
+                    iv.notes()));
         }
         return new Explanation(measurements, indices, rule.parameterTexts, advisory, basis, caution(rule, spo2));
     }
