@@ -127,6 +127,18 @@ public final class PatientTimeline {
         return existing.facts().stream().map(ClinicalFact::time).sorted().toList();
     }
 
+    /**
+     * The clinical times of the facts a resource currently contributes (empty when it is not on the timeline), so a
+     * caller can re-evaluate from the earliest time a replacement or retraction touches.
+     */
+    public List<Instant> timesOf(String resourceType, String id) {
+        ResourceEntry existing = byResource.get(resourceType + "/" + id);
+        if (existing == null) {
+            return List.of();
+        }
+        return existing.facts().stream().map(ClinicalFact::time).sorted().toList();
+    }
+
     /** Whether this exact resource version (or a newer one) is already on the timeline. */
     public boolean contains(SourceRef source) {
         ResourceEntry existing = byResource.get(source.unversioned());
