@@ -87,6 +87,7 @@ CREATE TABLE evaluation (
     detail          VARCHAR,
     episode_key     VARCHAR(80),
     mode            VARCHAR(24)  NOT NULL,
+    superseded      BOOLEAN      NOT NULL DEFAULT FALSE,
     explanation     VARCHAR
 );
 CREATE INDEX evaluation_patient ON evaluation (patient_id, anchor_time);
@@ -107,6 +108,7 @@ CREATE TABLE episode (
     mode            VARCHAR(24)  NOT NULL,
     flag_id         VARCHAR(64),
     flag_version    VARCHAR(32),
+    flag_resource   VARCHAR,
     updated_at      TIMESTAMP WITH TIME ZONE NOT NULL
 );
 CREATE INDEX episode_patient ON episode (patient_id, rule_id, status);

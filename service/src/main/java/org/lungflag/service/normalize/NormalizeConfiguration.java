@@ -2,6 +2,7 @@ package org.lungflag.service.normalize;
 
 import ca.uhn.fhir.context.FhirContext;
 import java.util.Optional;
+import org.lungflag.rules.units.MeasurementNormalizer;
 import org.lungflag.service.intake.IntakeProperties;
 import org.springframework.context.annotation.Bean;
 import org.springframework.context.annotation.Configuration;
@@ -17,5 +18,10 @@ class NormalizeConfiguration {
     @Bean
     ObservationMapper observationMapper(CodeMap codes, IntakeProperties intake) {
         return new ObservationMapper(codes, intake.futureSkew());
+    }
+
+    @Bean
+    Normalizer normalizer(ObservationMapper mapper) {
+        return new Normalizer(mapper, new MeasurementNormalizer());
     }
 }

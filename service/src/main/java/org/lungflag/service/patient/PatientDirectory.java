@@ -107,15 +107,23 @@ public class PatientDirectory {
                 .param("id", facts.patientId())
                 .update();
         if (updated == 0) {
-            jdbc.sql("""
+            try {
+                insert(facts, ts);
+            } catch (org.springframework.dao.DuplicateKeyException raced) {
+                store(facts, now); // created meanwhile by the evaluation of this patient: update it instead
+            }
+        }
+    }
+
+    private void insert(PatientFacts facts, Timestamp ts) {
+        jdbc.sql("""
                             INSERT INTO patient_state (patient_id, sex, birth_date, demographics_at, state_seq, updated_at)
                             VALUES (:id, :sex, :birth, :now, 0, :now)
                             """)
-                    .param("id", facts.patientId())
-                    .param("sex", facts.sex().name())
-                    .param("birth", facts.birthDate() == null ? null : Date.valueOf(facts.birthDate()))
-                    .param("now", ts)
-                    .update();
-        }
+                .param("id", facts.patientId())
+                .param("sex", facts.sex().name())
+                .param("birth", facts.birthDate() == null ? null : Date.valueOf(facts.birthDate()))
+                .param("now", ts)
+                .update();
     }
 }
