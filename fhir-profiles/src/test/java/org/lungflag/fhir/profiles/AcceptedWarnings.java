@@ -59,9 +59,10 @@ final class AcceptedWarnings {
         if (m.getSeverity() != ResultSeverityEnum.WARNING) {
             return false;
         }
-        return ALL.stream().noneMatch(a -> m.getMessage().contains(a.messageContains())
-                && (a.onlyFor() == null
-                        || a.onlyFor().equals(resourceType)
-                        || (packageResource && a.onlyFor().equals("package"))));
+        return ALL.stream()
+                .noneMatch(a -> m.getMessage().contains(a.messageContains())
+                        && (a.onlyFor() == null
+                                || a.onlyFor().equals(resourceType)
+                                || (packageResource && a.onlyFor().equals("package"))));
     }
 }

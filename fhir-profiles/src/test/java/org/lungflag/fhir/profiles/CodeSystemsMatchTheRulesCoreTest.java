@@ -49,7 +49,8 @@ class CodeSystemsMatchTheRulesCoreTest {
     void indexCodeSystemEqualsIndexCodeWithDisplayUnitAndLoinc() {
         Map<String, ConceptDefinitionComponent> concepts = concepts(LungflagFhir.CodeSystems.INDEX);
         assertThat(concepts.keySet())
-                .containsExactlyElementsOf(Arrays.stream(IndexCode.values()).map(IndexCode::code).toList());
+                .containsExactlyElementsOf(
+                        Arrays.stream(IndexCode.values()).map(IndexCode::code).toList());
         for (IndexCode code : IndexCode.values()) {
             ConceptDefinitionComponent c = concepts.get(code.code());
             assertThat(c.getDisplay()).as(code.code()).isEqualTo(code.display());
@@ -101,15 +102,21 @@ class CodeSystemsMatchTheRulesCoreTest {
     void everyNotEvaluableReasonNamesACoreDataAbsentReason() {
         List<String> coreCodes = List.of("unknown", "not-applicable", "error");
         concepts(LungflagFhir.CodeSystems.DATA_QUALITY).values().stream()
-                .filter(c -> property(c, "use").orElseThrow().getValueCodeType().getValue().equals("not-evaluable"))
-                .forEach(c -> assertThat(property(c, "data-absent-reason").map(p -> p.getValueCodeType().getValue()))
+                .filter(c -> property(c, "use")
+                        .orElseThrow()
+                        .getValueCodeType()
+                        .getValue()
+                        .equals("not-evaluable"))
+                .forEach(c -> assertThat(property(c, "data-absent-reason")
+                                .map(p -> p.getValueCodeType().getValue()))
                         .as(c.getCode())
                         .hasValueSatisfying(v -> assertThat(coreCodes).contains(v)));
     }
 
     @Test
     void advisoryCodeSystemEqualsTheAdvisoryCodesOfTheDesign() {
-        assertThat(concepts(LungflagFhir.CodeSystems.ADVISORY).keySet()).containsExactlyElementsOf(DESIGN_ADVISORY_CODES);
+        assertThat(concepts(LungflagFhir.CodeSystems.ADVISORY).keySet())
+                .containsExactlyElementsOf(DESIGN_ADVISORY_CODES);
     }
 
     @Test
@@ -154,7 +161,9 @@ class CodeSystemsMatchTheRulesCoreTest {
     void everyCodeSystemCountsItsConceptsAndHasAValueSet() {
         for (CodeSystem cs : PKG.all(CodeSystem.class)) {
             assertThat(cs.getCount()).as(cs.getUrl()).isEqualTo(cs.getConcept().size());
-            assertThat(cs.getConcept()).allSatisfy(c -> assertThat(c.getDefinition()).as(c.getCode()).isNotBlank());
+            assertThat(cs.getConcept())
+                    .allSatisfy(
+                            c -> assertThat(c.getDefinition()).as(c.getCode()).isNotBlank());
         }
     }
 

@@ -49,10 +49,11 @@ final class ConformancePackage {
 
     static synchronized ConformancePackage load() {
         if (instance == null) {
-            try (InputStream in = ConformancePackage.class.getClassLoader().getResourceAsStream(LungflagFhir.PACKAGE_RESOURCE)) {
+            try (InputStream in =
+                    ConformancePackage.class.getClassLoader().getResourceAsStream(LungflagFhir.PACKAGE_RESOURCE)) {
                 if (in == null) {
-                    throw new IllegalStateException("No FHIR package on the classpath at " + LungflagFhir.PACKAGE_RESOURCE
-                            + "; the build packs it in process-resources");
+                    throw new IllegalStateException("No FHIR package on the classpath at "
+                            + LungflagFhir.PACKAGE_RESOURCE + "; the build packs it in process-resources");
                 }
                 instance = new ConformancePackage(NpmPackage.fromPackage(in));
             } catch (IOException e) {
@@ -131,13 +132,18 @@ final class ConformancePackage {
      */
     Set<String> expand(String valueSetUrl) {
         Set<String> out = new LinkedHashSet<>();
-        for (ValueSet.ConceptSetComponent include : valueSet(valueSetUrl).getCompose().getInclude()) {
-            if (!include.getFilter().isEmpty() || !valueSet(valueSetUrl).getCompose().getExclude().isEmpty()) {
-                throw new IllegalStateException(valueSetUrl + " uses filters or excludes, which this expander does not");
+        for (ValueSet.ConceptSetComponent include :
+                valueSet(valueSetUrl).getCompose().getInclude()) {
+            if (!include.getFilter().isEmpty()
+                    || !valueSet(valueSetUrl).getCompose().getExclude().isEmpty()) {
+                throw new IllegalStateException(
+                        valueSetUrl + " uses filters or excludes, which this expander does not");
             }
             include.getValueSet().forEach(vs -> out.addAll(expand(vs.getValue())));
             if (include.hasSystem() && include.getConcept().isEmpty()) {
-                codeSystem(include.getSystem()).getConcept().forEach(c -> out.add(include.getSystem() + "|" + c.getCode()));
+                codeSystem(include.getSystem())
+                        .getConcept()
+                        .forEach(c -> out.add(include.getSystem() + "|" + c.getCode()));
             }
             include.getConcept().forEach(c -> out.add(include.getSystem() + "|" + c.getCode()));
         }

@@ -33,7 +33,8 @@ class ExamplesValidateTest {
         // HAPI 8.8 fails to regenerate its snapshot ("Unable to resolve package id hl7.fhir.r4.core#null"). Their
         // snapshots are generated below, and every extension is exercised by the examples that use it.
         return PKG.resources().entrySet().stream()
-                .filter(e -> !(e.getValue() instanceof StructureDefinition sd && sd.getType().equals("Extension")))
+                .filter(e -> !(e.getValue() instanceof StructureDefinition sd
+                        && sd.getType().equals("Extension")))
                 .map(java.util.Map.Entry::getKey);
     }
 
@@ -63,9 +64,12 @@ class ExamplesValidateTest {
     void everyExampleDeclaresAProfileOfThisPackageOrIsAPlainCoreResource() {
         Set<String> profiles = profileUrls();
         for (var e : PKG.examples().entrySet()) {
-            e.getValue().getMeta().getProfile().forEach(p -> assertThat(profiles)
-                    .as(e.getKey() + " declares a profile of this package")
-                    .contains(p.getValue()));
+            e.getValue()
+                    .getMeta()
+                    .getProfile()
+                    .forEach(p -> assertThat(profiles)
+                            .as(e.getKey() + " declares a profile of this package")
+                            .contains(p.getValue()));
         }
     }
 
@@ -79,7 +83,8 @@ class ExamplesValidateTest {
 
     @Test
     void everyExtensionIsUsedByAnExampleOrByThePackage() {
-        String everything = String.join("\n", PKG.exampleJson().values()) + String.join("\n", PKG.resourceJson().values());
+        String everything = String.join("\n", PKG.exampleJson().values())
+                + String.join("\n", PKG.resourceJson().values());
         List<String> unused = PKG.all(StructureDefinition.class).stream()
                 .filter(sd -> sd.getType().equals("Extension"))
                 .map(StructureDefinition::getUrl)
@@ -100,9 +105,11 @@ class ExamplesValidateTest {
             Set<String> snapshotIds = generated.getSnapshot().getElement().stream()
                     .map(e -> e.getId())
                     .collect(Collectors.toCollection(TreeSet::new));
-            sd.getDifferential().getElement().forEach(e -> assertThat(snapshotIds)
-                    .as(sd.getUrl() + " snapshot has differential element " + e.getId())
-                    .contains(e.getId()));
+            sd.getDifferential()
+                    .getElement()
+                    .forEach(e -> assertThat(snapshotIds)
+                            .as(sd.getUrl() + " snapshot has differential element " + e.getId())
+                            .contains(e.getId()));
         }
     }
 

@@ -75,7 +75,8 @@ class InputValueSetsAndSubscriptionsTest {
         assertThat(PKG.expand(LungflagFhir.inputValueSet("tidal-volume")))
                 .containsExactlyInAnyOrder(LOINC + "20112-9", LOINC + "76222-9", MDC + "16929196", MDC + "151980");
         assertThat(PKG.expand(LungflagFhir.inputValueSet("etco2"))).containsExactly(LOINC + "19891-1", MDC + "151708");
-        assertThat(PKG.expand(LungflagFhir.inputValueSet("body-height"))).containsExactly(LOINC + "8302-2", LOINC + "8306-3");
+        assertThat(PKG.expand(LungflagFhir.inputValueSet("body-height")))
+                .containsExactly(LOINC + "8302-2", LOINC + "8306-3");
     }
 
     @Test
@@ -103,7 +104,9 @@ class InputValueSetsAndSubscriptionsTest {
         Set<String> all = PKG.expand(LungflagFhir.ValueSets.INPUT_ALL);
         String review = Files.readString(Path.of("REVIEW.md"), StandardCharsets.UTF_8);
         for (String code : UNVERIFIED) {
-            assertThat(all).as("unverified " + code + " is not an included input code").doesNotContain(code);
+            assertThat(all)
+                    .as("unverified " + code + " is not an included input code")
+                    .doesNotContain(code);
             assertThat(review).as("REVIEW.md lists " + code).contains(code.substring(code.indexOf('|') + 1));
         }
     }
@@ -119,7 +122,8 @@ class InputValueSetsAndSubscriptionsTest {
     void allInputsIsTheUnionOfTheInputKindValueSets() {
         Set<String> union = new LinkedHashSet<>();
         Arrays.stream(QuantityKind.values())
-                .forEach(k -> union.addAll(PKG.expand(LungflagFhir.inputValueSet(CodeSystemsMatchTheRulesCoreTest.kebab(k)))));
+                .forEach(k -> union.addAll(
+                        PKG.expand(LungflagFhir.inputValueSet(CodeSystemsMatchTheRulesCoreTest.kebab(k)))));
         assertThat(PKG.expand(LungflagFhir.ValueSets.INPUT_ALL)).containsExactlyInAnyOrderElementsOf(union);
     }
 
@@ -144,8 +148,8 @@ class InputValueSetsAndSubscriptionsTest {
                 continue;
             }
             assertThat(s.getCriteria()).startsWith("Observation?code=");
-            Set<String> group = new LinkedHashSet<>(
-                    PKG.expand(LungflagFhir.CANONICAL_BASE + "/ValueSet/input-group-" + id.substring("lungflag-".length())));
+            Set<String> group = new LinkedHashSet<>(PKG.expand(
+                    LungflagFhir.CANONICAL_BASE + "/ValueSet/input-group-" + id.substring("lungflag-".length())));
             group.removeAll(procedures);
             assertThat(group).containsAll(codes(s));
         }
@@ -162,12 +166,14 @@ class InputValueSetsAndSubscriptionsTest {
                     .extracting(h -> h.getValue())
                     .containsExactly(LungflagFhir.SubscriptionTemplate.AUTHORIZATION_HEADER_PLACEHOLDER);
             assertThat(s.getMeta().getTag())
-                    .anySatisfy(t -> assertThat(t.getSystem()).isEqualTo(LungflagFhir.CodeSystems.SUBSCRIPTION_TEMPLATE));
+                    .anySatisfy(
+                            t -> assertThat(t.getSystem()).isEqualTo(LungflagFhir.CodeSystems.SUBSCRIPTION_TEMPLATE));
         });
     }
 
     private static List<String> codes(Subscription s) {
         String criteria = s.getCriteria();
-        return List.of(criteria.substring(criteria.indexOf("code=") + "code=".length()).split(","));
+        return List.of(
+                criteria.substring(criteria.indexOf("code=") + "code=".length()).split(","));
     }
 }

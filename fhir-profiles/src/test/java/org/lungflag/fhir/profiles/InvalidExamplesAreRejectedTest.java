@@ -20,11 +20,14 @@ class InvalidExamplesAreRejectedTest {
     static Stream<Arguments> invalidExamples() {
         return Stream.of(
                 // advisory Flag
-                Arguments.of("Flag-missing-caution.json",
+                Arguments.of(
+                        "Flag-missing-caution.json",
                         "Slice 'Flag.extension:caution' for extension 'http://lungflag.org/fhir/StructureDefinition/advisory-caution': a matching slice is required, but not found"),
-                Arguments.of("Flag-missing-flag-detail.json",
+                Arguments.of(
+                        "Flag-missing-flag-detail.json",
                         "Slice 'Flag.extension:detail' for extension 'http://hl7.org/fhir/StructureDefinition/flag-detail': a matching slice is required, but not found"),
-                Arguments.of("Flag-wrong-code-system.json",
+                Arguments.of(
+                        "Flag-wrong-code-system.json",
                         "None of the codings provided are in the value set 'Lungflag advisories'"),
                 Arguments.of("Flag-wrong-code-system.json", "lf-flag-1"),
                 Arguments.of("Flag-unknown-advisory-code.json", "hypoxemia-critical"),
@@ -38,7 +41,8 @@ class InvalidExamplesAreRejectedTest {
                 Arguments.of("Observation-not-evaluable-without-lungflag-reason.json", "dataAbsentReason.coding"),
                 Arguments.of("Observation-derived-method-not-id-at-version.json", "lf-obs-3"),
                 Arguments.of("Observation-derived-pf-without-loinc.json", "lf-obs-2"),
-                Arguments.of("Observation-derived-without-inputs.json",
+                Arguments.of(
+                        "Observation-derived-without-inputs.json",
                         "Observation.derivedFrom: minimum required = 1, but only found 0"),
                 Arguments.of("Observation-derived-value-without-ucum.json", "Observation.value"),
                 // Provenance
@@ -48,9 +52,11 @@ class InvalidExamplesAreRejectedTest {
                 Arguments.of("Provenance-input-not-derivation.json", "derivation"),
                 // input profiles
                 Arguments.of("Observation-spo2-coded-only-2708-6-as-laboratory.json", "lf-spo2-1"),
-                Arguments.of("Observation-blood-gas-without-specimen.json",
+                Arguments.of(
+                        "Observation-blood-gas-without-specimen.json",
                         "Observation.specimen: minimum required = 1, but only found 0"),
-                Arguments.of("Observation-blood-gas-venous-code.json",
+                Arguments.of(
+                        "Observation-blood-gas-venous-code.json",
                         "None of the codings provided are in the value set 'Arterial blood-gas codes'"),
                 Arguments.of("Observation-blood-gas-preliminary.json", "lf-in-1"),
                 Arguments.of("Specimen-venous-as-arterial.json", "122552005"),

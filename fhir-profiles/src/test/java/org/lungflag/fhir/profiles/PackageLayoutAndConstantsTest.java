@@ -34,13 +34,16 @@ class PackageLayoutAndConstantsTest {
             for (Field f : nested.getFields()) {
                 if (Modifier.isStatic(f.getModifiers()) && f.getType() == String.class) {
                     String value = (String) f.get(null);
-                    if (value.startsWith(LungflagFhir.CANONICAL_BASE) && !f.getName().endsWith("_PREFIX")) {
+                    if (value.startsWith(LungflagFhir.CANONICAL_BASE)
+                            && !f.getName().endsWith("_PREFIX")) {
                         urls.add(value);
                     }
                 }
             }
         }
-        assertThat(urls).hasSizeGreaterThan(30).allSatisfy(url -> assertThat(PKG.byUrl(url)).as(url).isPresent());
+        assertThat(urls)
+                .hasSizeGreaterThan(30)
+                .allSatisfy(url -> assertThat(PKG.byUrl(url)).as(url).isPresent());
     }
 
     @Test
@@ -56,7 +59,9 @@ class PackageLayoutAndConstantsTest {
         PKG.resources().values().stream()
                 .filter(org.hl7.fhir.r4.model.MetadataResource.class::isInstance)
                 .map(org.hl7.fhir.r4.model.MetadataResource.class::cast)
-                .forEach(r -> assertThat(r.getVersion()).as(r.getUrl()).isEqualTo(PKG.npm().version()));
+                .forEach(r -> assertThat(r.getVersion())
+                        .as(r.getUrl())
+                        .isEqualTo(PKG.npm().version()));
     }
 
     @Test

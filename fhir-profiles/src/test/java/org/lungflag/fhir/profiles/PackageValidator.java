@@ -43,7 +43,8 @@ final class PackageValidator {
                     new DefaultProfileValidationSupport(ctx),
                     new CommonCodeSystemsTerminologyService(ctx),
                     new InMemoryTerminologyServerValidationSupport(ctx),
-                    new SnapshotGeneratingValidationSupport(ctx), unknownCodeSystemsAreWarnings());
+                    new SnapshotGeneratingValidationSupport(ctx),
+                    unknownCodeSystemsAreWarnings());
             validator = ctx.newValidator();
             var instanceValidator = new FhirInstanceValidator(chain);
             // Check a literal reference's type (Flag.author is Device/..., not Practitioner/...) without fetching it.
