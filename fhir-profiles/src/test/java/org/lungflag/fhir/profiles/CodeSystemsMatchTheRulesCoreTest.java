@@ -158,7 +158,7 @@ class CodeSystemsMatchTheRulesCoreTest {
     }
 
     @Test
-    void everyCodeSystemCountsItsConceptsAndHasAValueSet() {
+    void everyCodeSystemCountsItsConceptsAndDefinesEachOne() {
         for (CodeSystem cs : PKG.all(CodeSystem.class)) {
             assertThat(cs.getCount()).as(cs.getUrl()).isEqualTo(cs.getConcept().size());
             assertThat(cs.getConcept())
