@@ -3,13 +3,15 @@ package org.lungflag.service.intake;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import java.net.URI;
 import java.util.ArrayList;
-import java.util.LinkedHashMap;
+import java.util.HashSet;
 import java.util.List;
-import java.util.Map;
+import java.util.Set;
 import java.util.concurrent.atomic.AtomicBoolean;
 import org.hl7.fhir.r4.model.Bundle;
 import org.hl7.fhir.r4.model.StringType;
 import org.hl7.fhir.r4.model.Subscription;
+import org.lungflag.fhir.profiles.LungflagFhir;
+import org.lungflag.service.conformance.ConformancePackage;
 import org.lungflag.service.normalize.CodeMap;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -17,26 +19,33 @@ import org.springframework.scheduling.annotation.Scheduled;
 import org.springframework.stereotype.Component;
 
 /**
- * Makes sure the FHIR server has Lungflag's rest-hook Subscriptions (one per code system of the input codes:
- * R4 criteria are one search URL, with {@code code=a,b,c} as OR). Idempotent: it finds its Subscriptions by
- * endpoint and criteria, creates what is missing and repairs what differs (header, status, payload). It retries
- * until the server answers, because the server may start after Lungflag.
+ * Makes sure the FHIR server has Lungflag's rest-hook Subscriptions: the conformance package's templates
+ * (blood gas, bedside, body measures; R4 criteria are one search URL with {@code code=a,b,c} as OR) with this
+ * service's endpoint and token, plus one for codes the site ConceptMap adds. Idempotent: it finds its
+ * Subscriptions by template tag and endpoint, creates what is missing and repairs what differs (criteria, header,
+ * status, payload). It retries until the server answers, because the server may start after Lungflag.
  */
 @Component
 public class SubscriptionRegistrar {
 
     private static final Logger log = LoggerFactory.getLogger(SubscriptionRegistrar.class);
     static final String PAYLOAD = "application/fhir+json";
-    static final String REASON = "Lungflag: respiratory advisories from blood gases and ventilator data";
 
     private final IGenericClient client;
+    private final ConformancePackage conformance;
     private final CodeMap codes;
     private final HookToken token;
     private final IntakeProperties properties;
     private final AtomicBoolean done = new AtomicBoolean(false);
 
-    SubscriptionRegistrar(IGenericClient client, CodeMap codes, HookToken token, IntakeProperties properties) {
+    SubscriptionRegistrar(
+            IGenericClient client,
+            ConformancePackage conformance,
+            CodeMap codes,
+            HookToken token,
+            IntakeProperties properties) {
         this.client = client;
+        this.conformance = conformance;
         this.codes = codes;
         this.token = token;
         this.properties = properties;
@@ -72,33 +81,42 @@ public class SubscriptionRegistrar {
         }
     }
 
+    /** The Subscription templates of the conformance package that the live service uses. */
+    static final List<String> TEMPLATES = List.of(
+            LungflagFhir.PackageFiles.SUBSCRIPTION_BLOOD_GAS,
+            LungflagFhir.PackageFiles.SUBSCRIPTION_BEDSIDE,
+            LungflagFhir.PackageFiles.SUBSCRIPTION_BODY_MEASURES);
+
+    static final String SITE_TEMPLATE = "lungflag-site-codes";
+
     /** Creates or repairs the Subscriptions. Returns the ids of Lungflag's Subscriptions. */
     public List<String> ensure() {
         List<String> ids = new ArrayList<>();
-        Map<String, Subscription> existing = new LinkedHashMap<>();
-        Bundle found = client.search()
-                .forResource(Subscription.class)
-                .where(Subscription.URL.matches().value(endpoint()))
-                .count(100)
-                .returnBundle(Bundle.class)
-                .execute();
-        for (Bundle.BundleEntryComponent e : found.getEntry()) {
-            if (e.getResource() instanceof Subscription s) {
-                existing.put(s.getCriteria(), s);
-            }
-        }
-        for (String criteria : criteria()) {
-            Subscription current = existing.get(criteria);
+        for (Subscription wanted : wanted()) {
+            String tag = wanted.getMeta().getTag().get(0).getCode();
+            Bundle found = client.search()
+                    .forResource(Subscription.class)
+                    .withTag(LungflagFhir.CodeSystems.SUBSCRIPTION_TEMPLATE, tag)
+                    .where(Subscription.URL.matches().value(endpoint()))
+                    .count(10)
+                    .returnBundle(Bundle.class)
+                    .execute();
+            Subscription current = found.getEntry().stream()
+                    .map(Bundle.BundleEntryComponent::getResource)
+                    .filter(Subscription.class::isInstance)
+                    .map(Subscription.class::cast)
+                    .filter(sub -> endpoint().equals(sub.getChannel().getEndpoint()))
+                    .findFirst()
+                    .orElse(null);
             if (current == null) {
-                var outcome = client.create().resource(template(criteria)).execute();
+                var outcome = client.create().resource(wanted).execute();
                 ids.add(outcome.getId().getIdPart());
-                log.info("registered Subscription {} for {}", outcome.getId().getIdPart(), system(criteria));
-            } else if (!matches(current)) {
-                Subscription repaired = template(criteria);
-                repaired.setId(current.getIdElement().toUnqualifiedVersionless());
-                client.update().resource(repaired).execute();
+                log.info("registered Subscription {} ({})", outcome.getId().getIdPart(), tag);
+            } else if (!matches(current) || !wanted.getCriteria().equals(current.getCriteria())) {
+                wanted.setId(current.getIdElement().toUnqualifiedVersionless());
+                client.update().resource(wanted).execute();
                 ids.add(current.getIdElement().getIdPart());
-                log.info("repaired Subscription {}", current.getIdElement().getIdPart());
+                log.info("repaired Subscription {} ({})", current.getIdElement().getIdPart(), tag);
             } else {
                 ids.add(current.getIdElement().getIdPart());
             }
@@ -106,30 +124,38 @@ public class SubscriptionRegistrar {
         return ids;
     }
 
-    /** One criteria string per code system, e.g. {@code Observation?code=http://loinc.org|2703-7,...}. */
-    public List<String> criteria() {
-        Map<String, List<String>> bySystem = new LinkedHashMap<>();
-        for (String key : codes.codings()) {
-            int bar = key.indexOf('|');
-            bySystem.computeIfAbsent(key.substring(0, bar), k -> new ArrayList<>())
-                    .add(key);
+    /** The package's templates with this service's endpoint and token, plus one for site-mapped codes. */
+    List<Subscription> wanted() {
+        List<Subscription> out = new ArrayList<>();
+        Set<String> covered = new HashSet<>();
+        for (String file : TEMPLATES) {
+            Subscription s = conformance.resource(file, Subscription.class);
+            s.setId((String) null);
+            s.getChannel().setEndpoint(endpoint()).setHeader(List.of(new StringType(token.subscriptionHeader())));
+            String criteria = s.getCriteria();
+            covered.addAll(
+                    List.of(criteria.substring(criteria.indexOf("code=") + 5).split(",")));
+            out.add(s);
         }
-        List<String> out = new ArrayList<>();
-        bySystem.values().forEach(list -> out.add("Observation?code=" + String.join(",", list)));
+        List<String> extra =
+                codes.codings().stream().filter(c -> !covered.contains(c)).toList();
+        if (!extra.isEmpty()) {
+            Subscription site =
+                    conformance.resource(LungflagFhir.PackageFiles.SUBSCRIPTION_BEDSIDE, Subscription.class);
+            site.setId((String) null);
+            site.getMeta().getTag().clear();
+            site.getMeta().addTag(LungflagFhir.CodeSystems.SUBSCRIPTION_TEMPLATE, SITE_TEMPLATE, null);
+            site.setReason("Lungflag advisory service: inputs mapped by the site ConceptMap.");
+            site.setCriteria("Observation?code=" + String.join(",", extra));
+            site.getChannel().setEndpoint(endpoint()).setHeader(List.of(new StringType(token.subscriptionHeader())));
+            out.add(site);
+        }
         return out;
     }
 
-    private Subscription template(String criteria) {
-        Subscription s = new Subscription();
-        s.setStatus(Subscription.SubscriptionStatus.REQUESTED);
-        s.setReason(REASON);
-        s.setCriteria(criteria);
-        s.getChannel()
-                .setType(Subscription.SubscriptionChannelType.RESTHOOK)
-                .setEndpoint(endpoint())
-                .setPayload(PAYLOAD)
-                .setHeader(List.of(new StringType(token.subscriptionHeader())));
-        return s;
+    /** The criteria of every Subscription Lungflag wants. */
+    public List<String> criteria() {
+        return wanted().stream().map(Subscription::getCriteria).toList();
     }
 
     private boolean matches(Subscription s) {
@@ -141,11 +167,5 @@ public class SubscriptionRegistrar {
                 && status
                 && PAYLOAD.equals(s.getChannel().getPayload())
                 && s.getChannel().getType() == Subscription.SubscriptionChannelType.RESTHOOK;
-    }
-
-    private static String system(String criteria) {
-        int start = "Observation?code=".length();
-        int bar = criteria.indexOf('|', start);
-        return bar < 0 ? criteria : criteria.substring(start, bar);
     }
 }

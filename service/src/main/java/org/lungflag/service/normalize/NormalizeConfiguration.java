@@ -3,6 +3,7 @@ package org.lungflag.service.normalize;
 import ca.uhn.fhir.context.FhirContext;
 import java.util.Optional;
 import org.lungflag.rules.units.MeasurementNormalizer;
+import org.lungflag.service.conformance.ConformancePackage;
 import org.lungflag.service.intake.IntakeProperties;
 import org.springframework.context.annotation.Bean;
 import org.springframework.context.annotation.Configuration;
@@ -11,8 +12,8 @@ import org.springframework.context.annotation.Configuration;
 class NormalizeConfiguration {
 
     @Bean
-    CodeMap codeMap(FhirContext fhir, NormalizeProperties properties) {
-        return SiteCodeMap.load(fhir, CodeMap.standard(), Optional.ofNullable(properties.conceptMap()));
+    CodeMap codeMap(FhirContext fhir, ConformancePackage conformance, NormalizeProperties properties) {
+        return SiteCodeMap.load(fhir, CodeMap.fromPackage(conformance), Optional.ofNullable(properties.conceptMap()));
     }
 
     @Bean

@@ -8,6 +8,7 @@ import java.util.Optional;
 import org.hl7.fhir.r4.model.CodeableConcept;
 import org.hl7.fhir.r4.model.Coding;
 import org.hl7.fhir.r4.model.DateTimeType;
+import org.hl7.fhir.r4.model.DeviceMetric;
 import org.hl7.fhir.r4.model.InstantType;
 import org.hl7.fhir.r4.model.Observation;
 import org.hl7.fhir.r4.model.Period;
@@ -16,6 +17,7 @@ import org.hl7.fhir.r4.model.Reference;
 import org.hl7.fhir.r4.model.Resource;
 import org.hl7.fhir.r4.model.Specimen;
 import org.hl7.fhir.r4.model.Type;
+import org.lungflag.fhir.profiles.LungflagFhir;
 import org.lungflag.rules.measure.BodyPosition;
 import org.lungflag.rules.measure.ClinicalFact;
 import org.lungflag.rules.measure.PositionState;
@@ -42,10 +44,10 @@ import org.lungflag.service.normalize.SpecimenLookup.SpecimenUnavailable;
 public final class ObservationMapper {
 
     static final String UCUM = "http://unitsofmeasure.org";
-    public static final String SUPPORT_MODE_SYSTEM = "http://lungflag.org/fhir/CodeSystem/support-mode";
-    public static final String BODY_POSITION_SYSTEM = "http://lungflag.org/fhir/CodeSystem/body-position";
+    public static final String SUPPORT_MODE_SYSTEM = LungflagFhir.CodeSystems.RESPIRATORY_SUPPORT;
+    public static final String BODY_POSITION_SYSTEM = LungflagFhir.CodeSystems.BODY_POSITION;
     /** Observation.category codes that say whether a device value is a setting or a measurement. */
-    public static final String VALUE_ROLE_SYSTEM = "http://lungflag.org/fhir/CodeSystem/value-role";
+    public static final String VALUE_ROLE_SYSTEM = LungflagFhir.CodeSystems.VALUE_ROLE;
 
     private static final String OBSERVATION_CATEGORY = "http://terminology.hl7.org/CodeSystem/observation-category";
 
@@ -144,7 +146,10 @@ public final class ObservationMapper {
                     "Observation/" + id + " has clinical time " + time + ", later than the receiving clock " + now
                             + " plus the allowed skew of " + futureSkew.toMinutes() + " min.");
         }
-        ValueRole roleOverride = roleFromCategory(obs.getCategory());
+        ValueRole roleOverride = roleFromDevice(obs);
+        if (roleOverride == null) {
+            roleOverride = roleFromCategory(obs.getCategory());
+        }
 
         List<RawReading> readings = new ArrayList<>();
         List<ClinicalFact> states = new ArrayList<>();
@@ -305,6 +310,29 @@ public final class ObservationMapper {
         }
         if (hasCategory(categories, VALUE_ROLE_SYSTEM, "measurement")) {
             return ValueRole.MEASUREMENT;
+        }
+        return null;
+    }
+
+    /**
+     * The conformance package's ventilator profile: Observation.device may point at a DeviceMetric whose category
+     * says setting or measurement (contained metrics are read here; others fall back to the code's role).
+     */
+    private static ValueRole roleFromDevice(Observation obs) {
+        if (!obs.hasDevice()
+                || !obs.getDevice().hasReference()
+                || !obs.getDevice().getReference().startsWith("#")) {
+            return null;
+        }
+        String id = obs.getDevice().getReference().substring(1);
+        for (Resource r : obs.getContained()) {
+            if (r instanceof DeviceMetric metric && id.equals(r.getIdElement().getIdPart()) && metric.hasCategory()) {
+                return switch (metric.getCategory()) {
+                    case SETTING -> ValueRole.SETTING;
+                    case MEASUREMENT -> ValueRole.MEASUREMENT;
+                    default -> null;
+                };
+            }
         }
         return null;
     }

@@ -14,6 +14,7 @@ import org.lungflag.rules.measure.SupportMode;
 import org.lungflag.rules.measure.SupportState;
 import org.lungflag.rules.measure.ValueRole;
 import org.lungflag.rules.quality.DataQualityReason;
+import org.lungflag.service.conformance.ConformancePackage;
 import org.lungflag.service.normalize.MappingOutcome.Refused;
 import org.lungflag.service.normalize.MappingOutcome.Retracted;
 import org.lungflag.service.normalize.MappingOutcome.Usable;
@@ -27,7 +28,8 @@ class ObservationMapperTest {
 
     private static final FhirContext FHIR = FhirContext.forR4Cached();
     private static final Instant NOW = Instant.parse("2026-11-30T12:00:00Z");
-    private final ObservationMapper mapper = new ObservationMapper(CodeMap.standard(), Duration.ofMinutes(5));
+    private final ObservationMapper mapper =
+            new ObservationMapper(CodeMap.fromPackage(ConformancePackage.load(FHIR)), Duration.ofMinutes(5));
 
     private static Observation parse(String json) {
         return FHIR.newJsonParser().parseResource(Observation.class, json);
@@ -203,8 +205,8 @@ class ObservationMapperTest {
     @Test
     void readsRespiratorySupportWithItsFlow() throws Exception {
         String json = obs(
-                "{\"system\":\"http://lungflag.org/fhir/CodeSystem/input\",\"code\":\"respiratory-support\"}",
-                ",\"valueCodeableConcept\":{\"coding\":[{\"system\":\"http://lungflag.org/fhir/CodeSystem/support-mode\",\"code\":\"high-flow-nasal-oxygen\"}]},"
+                "{\"system\":\"http://lungflag.org/fhir/CodeSystem/input-kind\",\"code\":\"respiratory-support\"}",
+                ",\"valueCodeableConcept\":{\"coding\":[{\"system\":\"http://lungflag.org/fhir/CodeSystem/respiratory-support\",\"code\":\"high-flow-nasal-oxygen\"}]},"
                         + "\"component\":[{\"code\":{\"coding\":[{\"system\":\"http://loinc.org\",\"code\":\"3151-8\"}]},"
                         + "\"valueQuantity\":{\"value\":40,\"system\":\"http://unitsofmeasure.org\",\"code\":\"L/min\"}}]");
         Usable u = (Usable) map(json);
