@@ -70,6 +70,19 @@ public class ReceivedResourceRepository {
                 > 0;
     }
 
+    /** The patient a resource belonged to, from its latest processed version. */
+    public java.util.Optional<String> patientOf(String resourceType, String resourceId) {
+        return jdbc.sql("""
+                        SELECT patient_id FROM received_resource
+                         WHERE resource_type = :type AND resource_id = :id AND patient_id IS NOT NULL
+                         ORDER BY id DESC FETCH FIRST 1 ROWS ONLY
+                        """)
+                .param("type", resourceType)
+                .param("id", resourceId)
+                .query(String.class)
+                .optional();
+    }
+
     public long count() {
         return jdbc.sql("SELECT COUNT(*) FROM received_resource")
                 .query(Long.class)
