@@ -370,10 +370,6 @@ public class InboxProcessor implements SmartLifecycle {
                     ? client.loadPage().next(page).execute()
                     : null;
         }
-        if (!work.isEmpty()) {
-            log.info("Patient/{}: hydrated {} Observation versions from the FHIR server", patientId, work.size());
-        }
-        return work;
     }
 
     private boolean hasMappedCode(Observation obs) {
