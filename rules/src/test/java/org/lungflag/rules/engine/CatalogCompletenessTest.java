@@ -80,11 +80,12 @@ class CatalogCompletenessTest {
                         .isPresent();
             }
             for (RuleSource s : rule.sources()) {
-                boolean used =
-                        rule.parameters().stream().anyMatch(p -> p.source().equals(s.id()));
-                assertThat(used)
-                        .as("%s source %s supports some parameter", rule.id(), s.id())
-                        .isTrue();
+                assertThat(s.citation())
+                        .as("%s source %s citation", rule.id(), s.id())
+                        .isNotBlank();
+                assertThat(s.supports())
+                        .as("%s source %s says what it supports", rule.id(), s.id())
+                        .isNotBlank();
             }
         }
     }
