@@ -23,7 +23,7 @@ import org.lungflag.rules.units.RawMeasurement;
  * strings as a JSON parser would hand them over. Feeds 52 h so that window pruning is in steady state. Measures
  * used heap after repeated GC with the timelines held, minus the same without them, over several rounds.
  *
- * <p>Not a unit test: run it by hand (command in DEVELOPERS.md). Arguments: {@code [patients] [numeric|uuid]}.
+ * <p>Not a unit test: run it by hand (command in DEVELOPERS.md). Arguments: {@code [patients] [numeric|uuid|text]}.
  */
 public final class TimelineMemoryBench {
 
@@ -52,23 +52,23 @@ public final class TimelineMemoryBench {
             new Reading(QuantityKind.HEMOGLOBIN, 11.8, "g/dL", ValueRole.MEASUREMENT, SpecimenKind.ARTERIAL));
 
     private final MeasurementNormalizer normalizer = new MeasurementNormalizer();
-    private final boolean uuidIds;
+    private final String ids;
     private long nextId = 104_000;
 
-    private TimelineMemoryBench(boolean uuidIds) {
-        this.uuidIds = uuidIds;
+    private TimelineMemoryBench(String ids) {
+        this.ids = ids;
     }
 
     public static void main(String[] args) {
         int patients = args.length > 0 ? Integer.parseInt(args[0]) : 2000;
-        boolean uuid = args.length > 1 && args[1].equalsIgnoreCase("uuid");
-        TimelineMemoryBench bench = new TimelineMemoryBench(uuid);
+        String ids = args.length > 1 ? args[1].toLowerCase(Locale.ROOT) : "numeric";
+        TimelineMemoryBench bench = new TimelineMemoryBench(ids);
         System.out.printf(
                 Locale.ROOT,
                 "timeline memory: %d patients, %d h fed into a 48 h window, %s resource ids, %s%n",
                 patients,
                 HOURS,
-                uuid ? "UUID" : "numeric (HAPI-style)",
+                ids.equals("uuid") ? "UUID" : ids.equals("text") ? "text (obs-NNNNNN)" : "numeric (HAPI-style)",
                 Runtime.version());
         bench.build(50); // warm up the converter cache and class loading
         for (int round = 1; round <= 3; round++) {
@@ -125,7 +125,11 @@ public final class TimelineMemoryBench {
     }
 
     private SourceRef nextSource() {
-        String id = uuidIds ? UUID.randomUUID().toString() : Long.toString(nextId++);
+        String id = switch (ids) {
+            case "uuid" -> UUID.randomUUID().toString();
+            case "text" -> "obs-" + nextId++;
+            default -> Long.toString(nextId++);
+        };
         return new SourceRef(new String("Observation"), id, new String("1"));
     }
 
