@@ -101,7 +101,7 @@ public final class RuleEngine {
         }
         Set<QuantityKind> present = EnumSet.noneOf(QuantityKind.class);
         for (QuantityKind k : triggerKinds) {
-            if (Points.hasFactAt(timeline.facts(k), at)) {
+            if (timeline.hasFactAt(k, at)) {
                 present.add(k);
             }
         }

@@ -154,11 +154,94 @@ public final class PatientTimeline {
      * caller can re-evaluate from the earliest time a replacement or retraction touches.
      */
     public List<Instant> timesOf(String resourceType, String id) {
-        ResourceEntry existing = byResource.get(resourceType + "/" + id);
-        if (existing == null) {
+        int slot = resources.find(resourceType, id);
+        if (slot < 0) {
             return List.of();
         }
-        return existing.facts().stream().map(ClinicalFact::time).sorted().toList();
+        List<Instant> times = new ArrayList<>(2);
+        for (int k = 0; k < KINDS.length; k++) {
+            MeasurementSeries s = series[k];
+            if (s != null) {
+                for (int i = 0; i < s.size(); i++) {
+                    if (s.slot(i) == slot) {
+                        times.add(Instant.ofEpochSecond(s.seconds(i), s.nanos(i)));
+                    }
+                }
+            }
+            List<ClinicalFact> list = states[k];
+            if (list != null) {
+                for (ClinicalFact f : list) {
+                    if (resources.matches(
+                            slot, f.source().resourceType(), f.source().id())) {
+                        times.add(f.time());
+                    }
+                }
+            }
+        }
+        Collections.sort(times);
+        return times;
+    }
+
+    /** Whether a fact of the kind lies at exactly this clinical time (allocation-free, for the engine). */
+    public boolean hasFactAt(QuantityKind kind, Instant at) {
+        if (kind.isCategorical()) {
+            List<ClinicalFact> list = states[kind.ordinal()];
+            if (list != null) {
+                for (ClinicalFact f : list) {
+                    if (f.time().equals(at)) {
+                        return true;
+                    }
+                }
+            }
+            return false;
+        }
+        MeasurementSeries s = series[kind.ordinal()];
+        if (s == null) {
+            return false;
+        }
+        int i = s.indexAfter(at.getEpochSecond(), at.getNano()) - 1;
+        return i >= 0 && s.compareTime(i, at.getEpochSecond(), at.getNano()) == 0;
+    }
+
+    /** Adds the clinical times of the kind's facts strictly after {@code after} (all when null) to {@code into}. */
+    public void timesAfter(QuantityKind kind, Instant after, java.util.Collection<Instant> into) {
+        if (kind.isCategorical()) {
+            List<ClinicalFact> list = states[kind.ordinal()];
+            if (list != null) {
+                for (ClinicalFact f : list) {
+                    if (after == null || f.time().isAfter(after)) {
+                        into.add(f.time());
+                    }
+                }
+            }
+            return;
+        }
+        MeasurementSeries s = series[kind.ordinal()];
+        if (s == null) {
+            return;
+        }
+        int from = after == null ? 0 : s.indexAfter(after.getEpochSecond(), after.getNano());
+        for (int i = from; i < s.size(); i++) {
+            into.add(Instant.ofEpochSecond(s.seconds(i), s.nanos(i)));
+        }
+    }
+
+    /** The measurements of a kind with clinical time in {@code [from, to]}, in clinical order. */
+    public List<Measurement> measurementsBetween(QuantityKind kind, Instant from, Instant to) {
+        MeasurementSeries s = kind.isCategorical() ? null : series[kind.ordinal()];
+        if (s == null) {
+            return List.of();
+        }
+        int end = s.indexAfter(to.getEpochSecond(), to.getNano());
+        int start = end;
+        while (start > 0 && s.compareTime(start - 1, from.getEpochSecond(), from.getNano()) >= 0) {
+            start--;
+        }
+        List<Measurement> out = new ArrayList<>(end - start);
+        for (int i = start; i < end; i++) {
+            out.add(s.get(i, resources, unitTable));
+        }
+        return out;
     }
 
     /** Whether this exact resource version (or a newer one) is already on the timeline. */
