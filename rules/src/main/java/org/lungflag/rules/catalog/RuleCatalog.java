@@ -97,13 +97,27 @@ public final class RuleCatalog {
         Map<String, String> idFiles = new HashMap<>();
         Map<String, String> codeOwners = new HashMap<>();
         for (Source s : sources) {
-            RuleDefinition r = RuleReader.read(s.file(), s.text(), s.folder(), problems);
+            RuleDefinition r = RuleReader.read(s.file(), s.text(), null, problems);
             if (r == null) {
                 continue;
             }
             String previous = idFiles.putIfAbsent(r.id(), s.file());
             if (previous != null) {
-                problems.add(s.file(), 1, 1, "duplicate rule id '" + r.id() + "': also defined in " + previous);
+                problems.add(
+                        s.file(),
+                        1,
+                        1,
+                        "duplicate rule id '" + r.id() + "': also defined in " + previous
+                                + "; every rule needs its own id (and folder catalog/<id>/)");
+                continue;
+            }
+            if (!r.id().equals(s.folder())) {
+                problems.add(
+                        s.file(),
+                        1,
+                        1,
+                        "the id '" + r.id() + "' differs from its folder name '" + s.folder()
+                                + "'; a rule lives in catalog/<id>/rule.yaml");
                 continue;
             }
             for (Tier t : r.tiers()) {

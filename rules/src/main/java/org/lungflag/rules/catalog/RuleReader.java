@@ -133,7 +133,11 @@ final class RuleReader {
         List<RuleSource> sources = sources(e.get("sources"));
         Set<String> sourceIds = new HashSet<>();
         sources.forEach(s -> sourceIds.add(s.id()));
+        int beforeParameters = problems.size();
         List<ParameterDefinition> parameters = parameters(e.get("parameters"), sourceIds);
+        if (problems.size() > beforeParameters) {
+            return null; // references to a broken parameter would only repeat the same problem
+        }
         Map<String, ParameterDefinition> params = new LinkedHashMap<>();
         parameters.forEach(p -> params.put(p.name(), p));
         List<Aggregate> aggregates = aggregates(e.get("aggregates"), params);

@@ -55,6 +55,11 @@ final class YamlNode {
         } catch (MarkedYamlEngineException e) {
             Mark mark = e.getProblemMark().orElse(e.getContextMark().orElse(null));
             String problem = e.getProblem() == null ? e.getMessage() : e.getProblem();
+            if (e.getContext() != null && e.getContextMark().isPresent()) {
+                Mark c = e.getContextMark().get();
+                problem += " (" + e.getContext() + " that starts at line " + (c.getLine() + 1) + ", column "
+                        + (c.getColumn() + 1) + "; check quotes, brackets and indentation there)";
+            }
             if (mark == null) {
                 problems.add(file, 0, 0, "YAML syntax error: " + problem);
             } else {
@@ -155,7 +160,8 @@ final class YamlNode {
         if (style == ScalarStyle.LITERAL) {
             // the content starts on the line after the indicator, indented like the first content line
             int contentLine = start.getLine() + textLine; // 0-based file line of the expression's line
-            int indent = contentLine < lines.length ? leadingSpaces(lines[contentLine]) : 0;
+            int first = start.getLine() + 1; // the block's indentation is that of its first content line
+            int indent = first < lines.length ? leadingSpaces(lines[first]) : 0;
             return new int[] {contentLine + 1, indent + 1 + textColumn};
         }
         return new int[] {start.getLine() + 1, start.getColumn() + 1};

@@ -75,7 +75,7 @@ final class CompiledRule {
 
     static String formatDuration(Duration d) {
         long minutes = d.toMinutes();
-        if (minutes % (24 * 60) == 0) {
+        if (minutes % (24 * 60) == 0 && minutes >= 48 * 60) {
             return (minutes / (24 * 60)) + " d";
         }
         if (minutes % 60 == 0) {

@@ -236,11 +236,7 @@ public final class PatientEvaluator {
         Instant after = current.evaluatedUpTo();
         TreeSet<Instant> points = new TreeSet<>();
         for (QuantityKind k : engine.triggerKinds()) {
-            List<ClinicalFact> list = timeline.facts(k);
-            int from = after == null ? 0 : Points.indexAfter(list, after);
-            for (int i = from; i < list.size(); i++) {
-                points.add(list.get(i).time());
-            }
+            timeline.timesAfter(k, after, points);
         }
         for (Instant p : points) {
             StepResult r = engine.step(current, timeline, patient, p);

@@ -17,7 +17,6 @@ import org.lungflag.rules.index.IndexCode;
 import org.lungflag.rules.index.IndexResult;
 import org.lungflag.rules.index.IndexValue;
 import org.lungflag.rules.index.NotEvaluable;
-import org.lungflag.rules.measure.ClinicalFact;
 import org.lungflag.rules.measure.Measurement;
 import org.lungflag.rules.measure.PositionState;
 import org.lungflag.rules.measure.QuantityKind;
@@ -77,15 +76,10 @@ final class Scope implements CelVariableResolver {
         }
 
         private Optional<Measurement> latestArterial(QuantityKind kind) {
-            List<ClinicalFact> facts = timeline.facts(kind);
-            Instant earliest = at.minus(measurementLookBack);
-            for (int i = Points.indexAfter(facts, at) - 1; i >= 0; i--) {
-                ClinicalFact f = facts.get(i);
-                if (f.time().isBefore(earliest)) {
-                    break;
-                }
-                if (f instanceof Measurement m && m.specimen() == SpecimenKind.ARTERIAL) {
-                    return Optional.of(m);
+            List<Measurement> window = timeline.measurementsBetween(kind, at.minus(measurementLookBack), at);
+            for (int i = window.size() - 1; i >= 0; i--) {
+                if (window.get(i).specimen() == SpecimenKind.ARTERIAL) {
+                    return Optional.of(window.get(i));
                 }
             }
             return Optional.empty();
@@ -260,13 +254,7 @@ final class Scope implements CelVariableResolver {
                 count++;
             }
         } else {
-            List<ClinicalFact> facts = anchor.timeline.facts(a.kind());
-            int end = Points.indexAfter(facts, anchor.at);
-            for (int i = 0; i < end; i++) {
-                ClinicalFact f = facts.get(i);
-                if (f.time().isBefore(from) || !(f instanceof Measurement m)) {
-                    continue;
-                }
+            for (Measurement m : anchor.timeline.measurementsBetween(a.kind(), from, anchor.at)) {
                 if (RuleVariables.arterialOnly(a.kind()) && m.specimen() != SpecimenKind.ARTERIAL) {
                     continue;
                 }

@@ -216,7 +216,10 @@ public final class UnitConverter {
                     new BigDecimal(ucum.convert(new Decimal("0"), from, to).asDecimal());
             BigDecimal two =
                     new BigDecimal(ucum.convert(new Decimal(TWO), from, to).asDecimal());
-            if (zero.signum() != 0 || two.compareTo(one.multiply(BigDecimal.valueOf(2))) != 0) {
+            BigDecimal deviation =
+                    two.subtract(one.multiply(BigDecimal.valueOf(2))).abs();
+            BigDecimal allowed = one.abs().scaleByPowerOfTen(-15); // the library rounds its last decimal digits
+            if (zero.signum() != 0 || one.signum() == 0 || deviation.compareTo(allowed) > 0) {
                 return new Factor(
                         null,
                         DataQualityReason.INCOMPATIBLE_UNIT,
