@@ -74,6 +74,7 @@ public class InboxProcessor implements SmartLifecycle {
     private final String owner;
     private final Duration pollInterval;
     private final Set<String> hydrated = ConcurrentHashMap.newKeySet();
+    private final Duration retryDelay = Duration.ofSeconds(5);
 
     private volatile boolean running;
     private volatile boolean ready;
@@ -214,10 +215,11 @@ public class InboxProcessor implements SmartLifecycle {
                         patientId,
                         e.getValue().size(),
                         ex.getClass().getSimpleName());
+                log.debug("Patient/{}: processing failed", patientId, ex);
                 e.getValue().forEach(w -> retry.add(w.inboxId()));
             }
         }
-        inbox.release(retry);
+        inbox.release(retry, retryDelay);
         return items.size();
     }
 

@@ -260,12 +260,17 @@ public class PatientProcessor {
         }
         Map<String, RuleEvaluation> latestByEpisode = new LinkedHashMap<>();
         Map<String, RuleEvaluation> lastActiveByEpisode = new HashMap<>();
+        Map<String, List<String>> lastInputsByRule = new HashMap<>();
         Map<RuleEvaluation, Long> ids = new HashMap<>();
         Map<String, UsedIndexAt> indices = new LinkedHashMap<>();
         for (RuleEvaluation e : batch.evaluations()) {
             EvaluationMode mode = modes.mode(e.ruleId());
             ids.put(e, evaluations.add(e, mode));
             counts.evaluations++;
+            List<String> inputs = AdvisoryResources.inputsOf(e);
+            if (!inputs.isEmpty()) {
+                lastInputsByRule.put(e.ruleId(), inputs);
+            }
             if (e.episode() != null) {
                 latestByEpisode.put(e.episode().key(), e);
                 if (e.outcome().isActiveTier()) {
@@ -278,7 +283,14 @@ public class PatientProcessor {
         }
         for (Map.Entry<String, RuleEvaluation> entry : latestByEpisode.entrySet()) {
             RuleEvaluation e = entry.getValue();
-            writeIfChanged(patientId, e.episode(), e, lastActiveByEpisode.get(entry.getKey()), ids.get(e), counts);
+            writeIfChanged(
+                    patientId,
+                    e.episode(),
+                    e,
+                    lastActiveByEpisode.get(entry.getKey()),
+                    lastInputsByRule.getOrDefault(e.ruleId(), List.of()),
+                    ids.get(e),
+                    counts);
         }
         // Episodes the evaluator holds active that the store does not (an earlier closure was re-evaluated away)
         for (Episode active : evaluator.activeEpisodes()) {
@@ -304,6 +316,7 @@ public class PatientProcessor {
             Episode episode,
             RuleEvaluation e,
             RuleEvaluation lastActive,
+            List<String> recentInputs,
             Long evaluationId,
             Counts counts) {
         EpisodeRow row = episodes.get(episode.key()).orElse(null);
@@ -329,8 +342,13 @@ public class PatientProcessor {
             }
             flag = AdvisoryResources.closedFlag(lastFlag, episode, e);
         }
-        RuleEvaluation provenanceSource = episode.isActive() || lastActive == null ? e : lastActive;
-        queueFlag(patientId, episode, rule, flag, provenanceSource, row == null, evaluationId, mode);
+        // The evidence: what this decision was computed from; for a closure, the latest readings that no longer met
+        // a tier, else the records the advisory cited.
+        List<String> inputs = AdvisoryResources.inputsOf(e);
+        if (inputs.isEmpty()) {
+            inputs = recentInputs.isEmpty() ? AdvisoryResources.detailsOf(flag) : recentInputs;
+        }
+        queueFlag(patientId, episode, rule, flag, inputs, row == null, evaluationId, mode);
         episodes.upsert(
                 episode.key(),
                 patientId,
@@ -355,7 +373,7 @@ public class PatientProcessor {
         flag.getPeriod().setEndElement(null);
         RuleDefinition rule = rule(active.ruleId());
         EvaluationMode mode = modes.mode(rule.id());
-        queueFlag(patientId, active, rule, flag, null, false, null, mode);
+        queueFlag(patientId, active, rule, flag, AdvisoryResources.detailsOf(flag), false, null, mode);
         episodes.upsert(
                 active.key(),
                 patientId,
@@ -410,15 +428,12 @@ public class PatientProcessor {
             Episode episode,
             RuleDefinition rule,
             Flag flag,
-            RuleEvaluation provenanceSource,
+            List<String> inputs,
             boolean created,
             Long evaluationId,
             EvaluationMode mode) {
-        String provenance = provenanceSource == null
-                ? null
-                : fhir.newJsonParser()
-                        .encodeResourceToString(
-                                AdvisoryResources.provenance(provenanceSource, rule, clock.instant(), created));
+        String provenance = fhir.newJsonParser()
+                .encodeResourceToString(AdvisoryResources.provenance(inputs, rule, clock.instant(), created));
         enqueue(patientId, episode.key(), flag, provenance, evaluationId, mode);
     }
 

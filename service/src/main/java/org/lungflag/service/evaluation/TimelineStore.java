@@ -122,8 +122,9 @@ class TimelineStore {
         Timestamp latest = jdbc.sql(
                         "SELECT MAX(clinical_time) FROM normalized_value WHERE patient_id = :p AND NOT retracted")
                 .param("p", patientId)
-                .query(Timestamp.class)
-                .single();
+                .query((rs, n) -> rs.getTimestamp(1))
+                .list()
+                .get(0);
         if (latest == null) {
             return timeline;
         }

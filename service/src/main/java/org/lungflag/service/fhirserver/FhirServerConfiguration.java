@@ -12,10 +12,15 @@ import org.springframework.context.annotation.Configuration;
 @Configuration(proxyBeanMethods = false)
 class FhirServerConfiguration {
 
+    /**
+     * Lungflag's own context (not the JVM-wide cached one): its parsers keep the versions of references, because
+     * flag-detail, derivedFrom and Provenance must point at the exact Observation versions used (invariant 5).
+     */
     @Bean
     FhirContext fhirContext() {
-        FhirContext context = FhirContext.forR4Cached();
+        FhirContext context = FhirContext.forR4();
         context.setPerformanceOptions(PerformanceOptionsEnum.DEFERRED_MODEL_SCANNING);
+        context.getParserOptions().setStripVersionsFromReferences(false);
         return context;
     }
 

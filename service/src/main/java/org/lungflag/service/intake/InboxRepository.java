@@ -133,13 +133,18 @@ public class InboxRepository {
                 .update();
     }
 
-    /** Puts claimed rows back (e.g. the FHIR server was unreachable while resolving a specimen). */
+    /**
+     * Puts claimed rows back to be retried after {@code delay} (e.g. the FHIR server was unreachable while a
+     * Specimen or Patient had to be read): they stay claimed by nobody until then, so a failing row cannot spin.
+     */
     @Transactional
-    public void release(List<Long> ids) {
+    public void release(List<Long> ids, Duration delay) {
         if (ids.isEmpty()) {
             return;
         }
-        jdbc.sql("UPDATE intake_inbox SET status = 'NEW', claimed_by = NULL, claimed_until = NULL WHERE id IN (:ids)")
+        jdbc.sql(
+                        "UPDATE intake_inbox SET status = 'CLAIMED', claimed_by = NULL, claimed_until = :until WHERE id IN (:ids)")
+                .param("until", Timestamp.from(clock.instant().plus(delay)))
                 .param("ids", ids)
                 .update();
     }
@@ -156,8 +161,9 @@ public class InboxRepository {
     /** The receipt time of the latest rest-hook notification, if any. */
     public Instant lastNotificationAt() {
         Timestamp t = jdbc.sql("SELECT MAX(received_at) FROM intake_inbox WHERE channel = 'REST_HOOK'")
-                .query(Timestamp.class)
-                .single();
+                .query((rs, n) -> rs.getTimestamp(1))
+                .list()
+                .get(0);
         return t == null ? null : t.toInstant();
     }
 

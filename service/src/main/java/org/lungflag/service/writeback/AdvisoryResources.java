@@ -128,9 +128,32 @@ public final class AdvisoryResources {
         return flag;
     }
 
-    /** The Provenance of one Flag version (its target is set when the version is known). */
-    public static Provenance provenance(
-            RuleEvaluation evaluation, RuleDefinition rule, Instant recorded, boolean created) {
+    /** The versioned references of the measurements an evaluation used, in order, without repeats. */
+    public static List<String> inputsOf(RuleEvaluation evaluation) {
+        Set<String> inputs = new LinkedHashSet<>();
+        for (UsedMeasurement m : evaluation.explanation().measurements()) {
+            inputs.add(m.source().toString());
+        }
+        return List.copyOf(inputs);
+    }
+
+    /** The references a Flag cites in its flag-detail extensions. */
+    public static List<String> detailsOf(Flag flag) {
+        List<String> refs = new ArrayList<>();
+        for (Extension e : flag.getExtensionsByUrl(LungflagFhir.Extensions.FLAG_DETAIL)) {
+            if (e.getValue() instanceof Reference r && r.hasReference()) {
+                refs.add(r.getReference());
+            }
+        }
+        return refs;
+    }
+
+    /**
+     * The Provenance of one Flag version (its target is set when the version is known).
+     *
+     * @param inputs the versioned references of the records the decision was derived from
+     */
+    public static Provenance provenance(List<String> inputs, RuleDefinition rule, Instant recorded, boolean created) {
         Provenance p = new Provenance();
         p.getMeta().addProfile(LungflagFhir.Profiles.ADVISORY_PROVENANCE);
         p.setRecordedElement(new InstantType(Date.from(recorded)));
@@ -140,11 +163,7 @@ public final class AdvisoryResources {
         p.addAgent()
                 .setType(new CodeableConcept(new Coding(PARTICIPANT_TYPE, "author", "Author")))
                 .setWho(new Reference(DEVICE_REFERENCE));
-        Set<String> inputs = new LinkedHashSet<>();
-        for (UsedMeasurement m : evaluation.explanation().measurements()) {
-            inputs.add(m.source().toString());
-        }
-        for (String ref : inputs) {
+        for (String ref : new LinkedHashSet<>(inputs)) {
             p.addEntity().setRole(Provenance.ProvenanceEntityRole.DERIVATION).setWhat(new Reference(ref));
         }
         return p;

@@ -196,10 +196,13 @@ public class OutboxDeliverer {
                 return true;
             }
         }
-        String known = jdbc.sql("SELECT flag_version FROM episode WHERE episode_key = :key")
+        String known = jdbc
+                .sql("SELECT flag_version FROM episode WHERE episode_key = :key")
                 .param("key", episodeKey)
-                .query(String.class)
-                .optional()
+                .query((rs, n) -> rs.getString(1))
+                .list()
+                .stream()
+                .findFirst()
                 .orElse(null);
         return known == null || !versionedRef.endsWith("/_history/" + known);
     }
@@ -259,6 +262,7 @@ public class OutboxDeliverer {
                     null));
         });
         log.error("outbox row {} ({}) refused permanently: {}", row.id(), row.kind(), reason.code());
+        log.debug("outbox row {}: {}", row.id(), detail);
     }
 
     /** Exponential backoff from the initial delay, capped, with ±50 % jitter. */

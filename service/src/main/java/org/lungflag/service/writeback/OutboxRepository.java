@@ -95,8 +95,9 @@ public class OutboxRepository {
     public String step(long id) {
         return jdbc.sql("SELECT step FROM outbox WHERE id = :id")
                 .param("id", id)
-                .query(String.class)
-                .single();
+                .query((rs, n) -> rs.getString(1))
+                .list()
+                .get(0);
     }
 
     public void delivered(long id, String resultRef) {

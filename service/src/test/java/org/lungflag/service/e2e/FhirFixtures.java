@@ -35,7 +35,10 @@ final class FhirFixtures {
         o.setCode(new CodeableConcept(new Coding(system, code, null)));
         o.setSubject(new Reference("Patient/" + patientId));
         o.setEffective(new DateTimeType(Date.from(at)));
-        o.setValue(new Quantity().setValue(value).setSystem(LungflagFhir.CodeSystems.UCUM).setCode(ucum));
+        o.setValue(new Quantity()
+                .setValue(value)
+                .setSystem(LungflagFhir.CodeSystems.UCUM)
+                .setCode(ucum));
         return o;
     }
 

@@ -9,6 +9,7 @@ import static org.lungflag.service.e2e.FhirFixtures.support;
 
 import ca.uhn.fhir.context.FhirContext;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
+import ca.uhn.fhir.rest.server.exceptions.ResourceVersionConflictException;
 import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
@@ -76,24 +77,35 @@ class LiveServiceEndToEndTest {
     @BeforeAll
     static void client() {
         FhirContext ctx = FhirContext.forR4Cached();
-        ctx.getRestfulClientFactory().setServerValidationMode(ca.uhn.fhir.rest.client.api.ServerValidationModeEnum.NEVER);
+        ctx.getRestfulClientFactory()
+                .setServerValidationMode(ca.uhn.fhir.rest.client.api.ServerValidationModeEnum.NEVER);
         fhir = ctx.newRestfulGenericClient(SandboxServer.server().baseUrl());
     }
 
     private String newPatient() {
         String id = "e2e-" + UUID.randomUUID().toString().substring(0, 8);
-        fhir.update().resource(patient(id, AdministrativeGender.MALE, "1961-04-02")).execute();
+        fhir.update()
+                .resource(patient(id, AdministrativeGender.MALE, "1961-04-02"))
+                .execute();
         return id;
     }
 
     private String create(Observation o) {
-        return fhir.create().resource(o).execute().getId().toUnqualifiedVersionless().getValue();
+        return fhir.create()
+                .resource(o)
+                .execute()
+                .getId()
+                .toUnqualifiedVersionless()
+                .getValue();
     }
 
     private void awaitSubscriptionsActive() {
         await().atMost(Duration.ofSeconds(60)).until(registrar::registered);
         await().atMost(Duration.ofSeconds(60)).untilAsserted(() -> {
-            Bundle subs = fhir.search().forResource(Subscription.class).returnBundle(Bundle.class).execute();
+            Bundle subs = fhir.search()
+                    .forResource(Subscription.class)
+                    .returnBundle(Bundle.class)
+                    .execute();
             assertThat(subs.getEntry())
                     .map(e -> (Subscription) e.getResource())
                     .filteredOn(s -> s.getChannel().getEndpoint().endsWith(":" + port + "/fhir-hook"))
@@ -114,7 +126,8 @@ class LiveServiceEndToEndTest {
     private List<Provenance> provenanceOf(Flag flag) {
         Bundle b = fhir.search()
                 .forResource(Provenance.class)
-                .where(Provenance.TARGET.hasId(flag.getIdElement().toUnqualifiedVersionless().getValue()))
+                .where(Provenance.TARGET.hasId(
+                        flag.getIdElement().toUnqualifiedVersionless().getValue()))
                 .returnBundle(Bundle.class)
                 .execute();
         return b.getEntry().stream().map(e -> (Provenance) e.getResource()).toList();
@@ -151,13 +164,18 @@ class LiveServiceEndToEndTest {
         assertThat(flag.getExtensionsByUrl(LungflagFhir.Extensions.FLAG_DETAIL))
                 .map(e -> ((Reference) e.getValue()).getReference())
                 .anySatisfy(ref -> assertThat(ref).startsWith(pao2 + "/_history/"));
-        assertThat(flag.getExtensionByUrl(LungflagFhir.Extensions.ADVISORY_BASIS).getValue().primitiveValue())
+        assertThat(flag.getExtensionByUrl(LungflagFhir.Extensions.ADVISORY_BASIS)
+                        .getValue()
+                        .primitiveValue())
                 .contains("160");
-        assertThat(flag.getExtensionByUrl(LungflagFhir.Extensions.ADVISORY_CAUTION).getValue().primitiveValue())
+        assertThat(flag.getExtensionByUrl(LungflagFhir.Extensions.ADVISORY_CAUTION)
+                        .getValue()
+                        .primitiveValue())
                 .isNotBlank();
         List<Provenance> provenance = provenanceOf(flag);
         assertThat(provenance).hasSize(1);
-        assertThat(provenance.get(0).getPolicy().get(0).getValue()).startsWith(LungflagFhir.RULE_CANONICAL_BASE + "hypoxemia|");
+        assertThat(provenance.get(0).getPolicy().get(0).getValue())
+                .startsWith(LungflagFhir.RULE_CANONICAL_BASE + "hypoxemia|");
         assertThat(provenance.get(0).getEntity())
                 .allSatisfy(e -> assertThat(e.getRole()).isEqualTo(Provenance.ProvenanceEntityRole.DERIVATION))
                 .anySatisfy(e -> assertThat(e.getWhat().getReference()).startsWith(pao2 + "/_history/"));
@@ -169,9 +187,12 @@ class LiveServiceEndToEndTest {
         Flag escalated = await().atMost(Duration.ofSeconds(60))
                 .until(() -> flagsOf(p).get(0), f -> code(f).equals("hypoxemia-severe"));
         assertThat(flagsOf(p)).hasSize(1);
-        assertThat(escalated.getIdElement().getIdPart()).isEqualTo(flag.getIdElement().getIdPart());
-        assertThat(escalated.getIdentifierFirstRep().getValue()).isEqualTo(flag.getIdentifierFirstRep().getValue());
-        await().atMost(Duration.ofSeconds(30)).until(() -> provenanceOf(escalated).size() == 2);
+        assertThat(escalated.getIdElement().getIdPart())
+                .isEqualTo(flag.getIdElement().getIdPart());
+        assertThat(escalated.getIdentifierFirstRep().getValue())
+                .isEqualTo(flag.getIdentifierFirstRep().getValue());
+        await().atMost(Duration.ofSeconds(30))
+                .until(() -> provenanceOf(escalated).size() == 2);
     }
 
     @Test
@@ -185,7 +206,8 @@ class LiveServiceEndToEndTest {
         // Improved: FiO2 0.30, PaO2 100 -> P/F 333 (above the mild band's 300) at +4 h and +11 h: resolves after 6 h
         for (int h : new int[] {4, 11}) {
             create(setting(p, "19994-3", 0.3, "1", t0.plus(h, ChronoUnit.HOURS).minus(30, ChronoUnit.MINUTES)));
-            create(setting(p, "76248-4", 8, "cm[H2O]", t0.plus(h, ChronoUnit.HOURS).minus(30, ChronoUnit.MINUTES)));
+            create(setting(
+                    p, "76248-4", 8, "cm[H2O]", t0.plus(h, ChronoUnit.HOURS).minus(30, ChronoUnit.MINUTES)));
             create(loinc(p, "2703-7", 100, "mm[Hg]", t0.plus(h, ChronoUnit.HOURS)));
         }
         Flag resolved = await().atMost(Duration.ofSeconds(60))
@@ -201,18 +223,22 @@ class LiveServiceEndToEndTest {
         Instant t0 = Instant.now().minus(10, ChronoUnit.HOURS).truncatedTo(ChronoUnit.MINUTES);
         ventilated(p, t0);
         String pao2 = create(loinc(p, "2703-7", 80, "mm[Hg]", t0));
-        Flag flag = await().atMost(Duration.ofSeconds(60)).until(() -> flagsOf(p), f -> f.size() == 1).get(0);
+        Flag flag = await().atMost(Duration.ofSeconds(60))
+                .until(() -> flagsOf(p), f -> f.size() == 1)
+                .get(0);
         long evaluations = countEvaluations(p);
-        Observation current = fhir.read().resource(Observation.class).withId(pao2).execute();
+        Observation current =
+                fhir.read().resource(Observation.class).withId(pao2).execute();
         String body = FhirContext.forR4Cached().newJsonParser().encodeResourceToString(current);
         for (int i = 0; i < 3; i++) {
-            HttpResponse<String> r = HttpClient.newHttpClient().send(
-                    HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/fhir-hook/" + pao2))
-                            .header("Authorization", "Bearer test-hook-token")
-                            .header("Content-Type", "application/fhir+json")
-                            .PUT(HttpRequest.BodyPublishers.ofString(body))
-                            .build(),
-                    HttpResponse.BodyHandlers.ofString());
+            HttpResponse<String> r = HttpClient.newHttpClient()
+                    .send(
+                            HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/fhir-hook/" + pao2))
+                                    .header("Authorization", "Bearer test-hook-token")
+                                    .header("Content-Type", "application/fhir+json")
+                                    .PUT(HttpRequest.BodyPublishers.ofString(body))
+                                    .build(),
+                            HttpResponse.BodyHandlers.ofString());
             assertThat(r.statusCode()).isEqualTo(200);
         }
         await().atMost(Duration.ofSeconds(30)).until(() -> pendingInbox() == 0);
@@ -225,12 +251,12 @@ class LiveServiceEndToEndTest {
     @Test
     void aNotificationMissedWhileTheChannelWasDownIsFoundByTheCatchUpSearch() {
         awaitSubscriptionsActive();
-        List<Subscription> ours = fhir.search().forResource(Subscription.class).returnBundle(Bundle.class).execute()
-                .getEntry().stream()
-                .map(e -> (Subscription) e.getResource())
-                .filter(s -> s.getChannel().getEndpoint().endsWith(":" + port + "/fhir-hook"))
-                .toList();
-        ours.forEach(s -> fhir.update().resource(s.setStatus(Subscription.SubscriptionStatus.OFF)).execute());
+        List<Subscription> ours =
+                fhir.search().forResource(Subscription.class).returnBundle(Bundle.class).execute().getEntry().stream()
+                        .map(e -> (Subscription) e.getResource())
+                        .filter(s -> s.getChannel().getEndpoint().endsWith(":" + port + "/fhir-hook"))
+                        .toList();
+        ours.forEach(s -> setStatus(s, Subscription.SubscriptionStatus.OFF));
         try {
             String p = newPatient();
             Instant t0 = Instant.now().minus(6, ChronoUnit.HOURS).truncatedTo(ChronoUnit.MINUTES);
@@ -240,16 +266,36 @@ class LiveServiceEndToEndTest {
             List<Flag> flags = await().atMost(Duration.ofSeconds(60)).until(() -> flagsOf(p), f -> f.size() == 1);
             assertThat(code(flags.get(0))).isEqualTo("hypoxemia-severe");
         } finally {
-            ours.forEach(s -> fhir.update().resource(s.setStatus(Subscription.SubscriptionStatus.REQUESTED)).execute());
+            ours.forEach(s -> setStatus(s, Subscription.SubscriptionStatus.REQUESTED));
         }
     }
 
+    /** The server may touch a Subscription meanwhile (activation), so a version conflict is retried. */
+    private static void setStatus(Subscription s, Subscription.SubscriptionStatus status) {
+        await().atMost(Duration.ofSeconds(20))
+                .ignoreException(ResourceVersionConflictException.class)
+                .until(() -> {
+                    Subscription current = fhir.read()
+                            .resource(Subscription.class)
+                            .withId(s.getIdElement().getIdPart())
+                            .execute();
+                    current.setStatus(status);
+                    fhir.update().resource(current).execute();
+                    return true;
+                });
+    }
+
     private long countEvaluations(String patientId) {
-        return jdbc.sql("SELECT COUNT(*) FROM evaluation WHERE patient_id = :p").param("p", patientId).query(Long.class).single();
+        return jdbc.sql("SELECT COUNT(*) FROM evaluation WHERE patient_id = :p")
+                .param("p", patientId)
+                .query(Long.class)
+                .single();
     }
 
     private long pendingInbox() {
-        return jdbc.sql("SELECT COUNT(*) FROM intake_inbox WHERE status <> 'DONE'").query(Long.class).single();
+        return jdbc.sql("SELECT COUNT(*) FROM intake_inbox WHERE status <> 'DONE'")
+                .query(Long.class)
+                .single();
     }
 
     static String ext(Flag f, String url) {
