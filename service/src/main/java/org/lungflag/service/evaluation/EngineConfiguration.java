@@ -9,6 +9,7 @@ import org.lungflag.rules.engine.EngineSettings;
 import org.lungflag.rules.engine.RuleEngine;
 import org.lungflag.rules.index.SiteParameters;
 import org.lungflag.rules.pairing.PairingSettings;
+import org.lungflag.service.offline.OfflineEvaluation;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.context.annotation.Bean;
@@ -37,6 +38,11 @@ class EngineConfiguration {
     @Bean
     SiteParameters siteParameters(EvaluationProperties properties) {
         return SiteParameters.defaults().withBarometricPressure(properties.barometricPressure());
+    }
+
+    @Bean
+    OfflineEvaluation offlineEvaluation(RuleEngine engine, RuleCatalog catalog, EvaluationProperties properties) {
+        return new OfflineEvaluation(engine, catalog, properties.window());
     }
 
     @Bean
