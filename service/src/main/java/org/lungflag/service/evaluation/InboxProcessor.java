@@ -76,6 +76,7 @@ public class InboxProcessor implements SmartLifecycle {
     private final Set<String> hydrated = ConcurrentHashMap.newKeySet();
     private final Duration retryDelay = Duration.ofSeconds(5);
 
+    private final boolean enabled;
     private volatile boolean running;
     private volatile boolean ready;
     private Thread thread;
@@ -94,7 +95,8 @@ public class InboxProcessor implements SmartLifecycle {
             EvaluationProperties properties,
             TransactionTemplate tx,
             Clock clock,
-            @Value("${lungflag.evaluation.poll-interval:500ms}") Duration pollInterval) {
+            @Value("${lungflag.evaluation.poll-interval:500ms}") Duration pollInterval,
+            @Value("${lungflag.evaluation.processor-enabled:true}") boolean enabled) {
         this.inbox = inbox;
         this.signal = signal;
         this.normalizer = normalizer;
@@ -112,6 +114,13 @@ public class InboxProcessor implements SmartLifecycle {
         this.owner =
                 "lungflag-" + ProcessHandle.current().pid() + "-" + Integer.toHexString(System.identityHashCode(this));
         this.pollInterval = pollInterval;
+        this.enabled = enabled;
+    }
+
+    /** Off for an instance that should only serve the console and API (or in tests that drive it by hand). */
+    @Override
+    public boolean isAutoStartup() {
+        return enabled;
     }
 
     @EventListener(ApplicationReadyEvent.class)
