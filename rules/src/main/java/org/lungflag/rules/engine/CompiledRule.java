@@ -30,6 +30,11 @@ final class CompiledRule {
     final Duration consecutiveSpacing;
     final Duration resolveAfter;
     final Duration expireAfter;
+    /** The general caution, the rule's own, and the same with the pulse-oximetry caution added. */
+    final String caution;
+
+    final String cautionWithPulseOximetry;
+
     /** The longest window of an index aggregate (how much history to keep), or zero. */
     final Duration historyWindow;
 
@@ -51,7 +56,7 @@ final class CompiledRule {
         }
         this.celParameters = Collections.unmodifiableMap(cel);
         this.durations = Collections.unmodifiableMap(d);
-        this.parameterTexts = Collections.unmodifiableMap(texts);
+        this.parameterTexts = Map.copyOf(texts);
         Map<String, RuleLogic.Derived> dv = new HashMap<>();
         definition.logic().derived().forEach(x -> dv.put(x.name(), x));
         this.derived = Collections.unmodifiableMap(dv);
@@ -71,6 +76,8 @@ final class CompiledRule {
             }
         }
         this.historyWindow = h;
+        this.caution = org.lungflag.rules.catalog.Cautions.GENERAL + " " + definition.caution();
+        this.cautionWithPulseOximetry = caution + " " + org.lungflag.rules.catalog.Cautions.PULSE_OXIMETRY;
     }
 
     static String formatDuration(Duration d) {

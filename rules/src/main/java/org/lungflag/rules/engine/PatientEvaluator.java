@@ -212,8 +212,8 @@ public final class PatientEvaluator {
     private Batch rerun(Map.Entry<Instant, EngineState> base, boolean beyond, AddResult result) {
         Instant clock = current.clock();
         Instant baseKey = base.getKey();
+        // checkpoints after the base are stale; the base itself is a checkpoint or the state before the last point
         checkpoints.tailMap(baseKey, false).clear();
-        checkpoints.put(baseKey, base.getValue());
         lastStep = base.getValue();
         previousStep = null;
         current = base.getValue();
