@@ -76,6 +76,15 @@ public final class RuleEngine {
                 EngineSettings.defaults());
     }
 
+    /** The engine with the real index calculator for a site's parameters and the given settings. */
+    public static RuleEngine create(
+            RuleCatalog catalog,
+            ParameterOverrides overrides,
+            org.lungflag.rules.index.SiteParameters site,
+            EngineSettings settings) {
+        return new RuleEngine(catalog, overrides, new CalculatorIndexProvider(site), settings);
+    }
+
     public RuleCatalog catalog() {
         return catalog;
     }
