@@ -11,6 +11,7 @@ import java.util.List;
 import java.util.Locale;
 import java.util.Objects;
 import org.lungflag.rules.measure.Measurement;
+import org.lungflag.rules.measure.NumberText;
 import org.lungflag.rules.measure.QuantityKind;
 import org.lungflag.rules.measure.SpecimenKind;
 import org.lungflag.rules.measure.ValueRole;
@@ -158,11 +159,7 @@ public final class IndexCalculator {
         def = IndexDefinitions.OXYGENATION_INDEX;
         refusal = arterial(def, pao2, QuantityKind.PAO2, DataQualityReason.MISSING_PAO2, inputs);
         if (refusal == null) {
-            refusal = fio2Refusal(def, fio2, peep, inputs);
-        }
-        if (refusal == null && meanAirway == null) {
-            refusal = missing(
-                    def, QuantityKind.MEAN_AIRWAY_PRESSURE, DataQualityReason.MISSING_MEAN_AIRWAY_PRESSURE, inputs);
+            refusal = ventilatorRefusal(def, fio2, peep, meanAirway, inputs);
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
@@ -176,11 +173,7 @@ public final class IndexCalculator {
         def = IndexDefinitions.OXYGEN_SATURATION_INDEX;
         refusal = spo2Refusal(def, spo2, inputs);
         if (refusal == null) {
-            refusal = fio2Refusal(def, fio2, peep, inputs);
-        }
-        if (refusal == null && meanAirway == null) {
-            refusal = missing(
-                    def, QuantityKind.MEAN_AIRWAY_PRESSURE, DataQualityReason.MISSING_MEAN_AIRWAY_PRESSURE, inputs);
+            refusal = ventilatorRefusal(def, fio2, peep, meanAirway, inputs);
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
@@ -613,6 +606,17 @@ public final class IndexCalculator {
         return missing(def, QuantityKind.FIO2, MISSING_FIO2, inputs);
     }
 
+    /** FiO2 and mean airway pressure, as OI and OSI need them; null when both are in force. */
+    private static NotEvaluable ventilatorRefusal(
+            IndexDefinition def, Measurement fio2, Measurement peep, Measurement meanAirway, PairedInputs inputs) {
+        NotEvaluable refusal = fio2Refusal(def, fio2, peep, inputs);
+        if (refusal == null && meanAirway == null) {
+            refusal = missing(
+                    def, QuantityKind.MEAN_AIRWAY_PRESSURE, DataQualityReason.MISSING_MEAN_AIRWAY_PRESSURE, inputs);
+        }
+        return refusal;
+    }
+
     private static NotEvaluable spo2Refusal(IndexDefinition def, Measurement spo2, PairedInputs inputs) {
         if (spo2 == null) {
             return missing(def, QuantityKind.SPO2, DataQualityReason.MISSING_SPO2, inputs);
@@ -662,19 +666,8 @@ public final class IndexCalculator {
         return t;
     }
 
-    /** A number for notes and details: up to 4 decimals, no trailing zeros, locale-independent. */
+    /** A number for notes and details (see {@link NumberText}). */
     static String number(double v) {
-        if (v == Math.rint(v) && Math.abs(v) < 1e15) {
-            return Long.toString((long) v);
-        }
-        String s = String.format(Locale.ROOT, "%.4f", v);
-        int end = s.length();
-        while (s.charAt(end - 1) == '0') {
-            end--;
-        }
-        if (s.charAt(end - 1) == '.') {
-            end--;
-        }
-        return s.substring(0, end);
+        return NumberText.of(v);
     }
 }

@@ -71,6 +71,7 @@ class IndexDefinitionsTest {
         assertThat(IndexCalculator.number(760)).isEqualTo("760");
         assertThat(IndexCalculator.number(0.8)).isEqualTo("0.8");
         assertThat(IndexCalculator.number(70.56600000001)).isEqualTo("70.566");
-        assertThat(IndexCalculator.number(0.00001)).isEqualTo("0");
+        assertThat(IndexCalculator.number(0.00001)).isEqualTo("1.000e-05");
+        assertThat(IndexCalculator.number(-12.5)).isEqualTo("-12.5");
     }
 }
