@@ -38,6 +38,9 @@ final class CompiledRule {
     /** The longest window of an index aggregate (how much history to keep), or zero. */
     final Duration historyWindow;
 
+    /** The indices the rule's aggregates read, whose values are kept as history. */
+    final java.util.Set<org.lungflag.rules.index.IndexCode> historyIndices;
+
     CompiledRule(RuleDefinition definition, ParameterOverrides overrides) {
         this.definition = definition;
         Map<String, Object> cel = new HashMap<>();
@@ -76,6 +79,14 @@ final class CompiledRule {
             }
         }
         this.historyWindow = h;
+        java.util.Set<org.lungflag.rules.index.IndexCode> codes =
+                java.util.EnumSet.noneOf(org.lungflag.rules.index.IndexCode.class);
+        for (Aggregate a : definition.aggregates()) {
+            if (a.index() != null) {
+                codes.add(a.index());
+            }
+        }
+        this.historyIndices = java.util.Collections.unmodifiableSet(codes);
         this.caution = org.lungflag.rules.catalog.Cautions.GENERAL + " " + definition.caution();
         this.cautionWithPulseOximetry = caution + " " + org.lungflag.rules.catalog.Cautions.PULSE_OXIMETRY;
     }

@@ -20,7 +20,6 @@ import org.lungflag.rules.index.IndexResult;
 import org.lungflag.rules.index.IndexValue;
 import org.lungflag.rules.index.NotEvaluable;
 import org.lungflag.rules.measure.QuantityKind;
-import org.lungflag.rules.measure.SupportMode;
 import org.lungflag.rules.pairing.PairedInputs;
 import org.lungflag.rules.pairing.Pairing;
 import org.lungflag.rules.patient.PatientFacts;
@@ -524,13 +523,7 @@ public final class RuleEngine {
                 h.add(s);
             }
         }
-        Set<IndexCode> codes = EnumSet.noneOf(IndexCode.class);
-        rule.definition.aggregates().forEach(a -> {
-            if (a.index() != null) {
-                codes.add(a.index());
-            }
-        });
-        for (IndexCode code : codes) {
+        for (IndexCode code : rule.historyIndices) {
             Optional<IndexResult> r = scope.anchor().index(code);
             if (r.isPresent() && r.get() instanceof IndexValue iv) {
                 h.add(new IndexSample(code.code(), at, iv.value()));
@@ -561,9 +554,5 @@ public final class RuleEngine {
         RuleDefinition d = rule.definition;
         return new RuleEvaluation(
                 patientId, d.id(), d.version(), d.digest(), at, outcome, tier, reason, detail, episode, explanation);
-    }
-
-    static boolean supportIn(Set<SupportMode> modes, SupportMode mode) {
-        return modes.isEmpty() || modes.contains(mode);
     }
 }
