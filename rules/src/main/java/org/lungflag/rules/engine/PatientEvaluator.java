@@ -122,6 +122,9 @@ public final class PatientEvaluator {
         for (ClinicalFact f : facts) {
             earliest = earliest == null || f.time().isBefore(earliest) ? f.time() : earliest;
         }
+        if (earliest == null) {
+            return Batch.empty(result); // a resource that contributes no facts, before or now
+        }
         Batch b = changedFrom(earliest, result);
         pruneCheckpoints();
         return b;
@@ -150,7 +153,8 @@ public final class PatientEvaluator {
             return Batch.empty(null);
         }
         this.patient = updated;
-        return rerun(checkpoints.firstEntry(), true, null);
+        Map.Entry<Instant, EngineState> horizon = checkpoints.firstEntry();
+        return rerun(horizon, !horizon.getKey().equals(Instant.MIN), null);
     }
 
     /** Evaluates every evaluation point after the current state (e.g. after {@link #resume}). */
