@@ -60,15 +60,43 @@ public final class PairedInputs {
 
     /** The more recent of {@link #setting} and {@link #measured}; on a tie, the measurement. */
     public Optional<Measurement> latest(QuantityKind kind) {
+        return Optional.ofNullable(latestOrNull(kind));
+    }
+
+    /**
+     * Allocation-free form of {@link #latest} for hot paths: the more recent of the setting and the measurement
+     * of a kind (on a tie, the measurement), or {@code null} when neither is in force.
+     */
+    public Measurement latestOrNull(QuantityKind kind) {
         Measurement s = settings.get(kind);
         Measurement m = measured.get(kind);
         if (s == null) {
-            return Optional.ofNullable(m);
+            return m;
         }
         if (m == null) {
-            return Optional.of(s);
+            return s;
         }
-        return Optional.of(s.time().isAfter(m.time()) ? s : m);
+        return s.time().isAfter(m.time()) ? s : m;
+    }
+
+    /** Allocation-free form of {@link #setting}: the setting in force, or {@code null}. */
+    public Measurement settingOrNull(QuantityKind kind) {
+        return settings.get(kind);
+    }
+
+    /** Allocation-free form of {@link #measured}: the measurement in force, or {@code null}. */
+    public Measurement measuredOrNull(QuantityKind kind) {
+        return measured.get(kind);
+    }
+
+    /** What the pairing says about a kind it did not find, or {@code null} when the kind was found. */
+    public MissingInput missingOrNull(QuantityKind kind) {
+        for (MissingInput m : missing) {
+            if (m.kind() == kind) {
+                return m;
+            }
+        }
+        return null;
     }
 
     public Optional<SupportState> support() {
@@ -85,7 +113,7 @@ public final class PairedInputs {
     }
 
     public boolean isMissing(QuantityKind kind) {
-        return missing.stream().anyMatch(m -> m.kind() == kind);
+        return missingOrNull(kind) != null;
     }
 
     /** Every measurement the pairing found, in clinical order. */

@@ -35,6 +35,9 @@ public final class Pairing {
         Map<QuantityKind, Measurement> set = new EnumMap<>(QuantityKind.class);
         Map<QuantityKind, Measurement> measured = new EnumMap<>(QuantityKind.class);
         List<MissingInput> missing = new ArrayList<>();
+        Duration longestLookBack = settings.settingLookBack().compareTo(settings.measurementLookBack()) >= 0
+                ? settings.settingLookBack()
+                : settings.measurementLookBack();
         for (QuantityKind kind : QuantityKind.values()) {
             if (kind.isCategorical()) {
                 continue;
@@ -46,7 +49,7 @@ public final class Pairing {
             timeline.latestAtOrBefore(kind, ValueRole.MEASUREMENT, anchor, measurementLookBack)
                     .ifPresent(m -> measured.put(kind, m));
             if (!set.containsKey(kind) && !measured.containsKey(kind)) {
-                missing.add(new MissingInput(kind, kind.staysInForce() ? null : settings.settingLookBack()));
+                missing.add(new MissingInput(kind, kind.staysInForce() ? null : longestLookBack));
             }
         }
         return new PairedInputs(

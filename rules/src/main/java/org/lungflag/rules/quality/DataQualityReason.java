@@ -215,6 +215,12 @@ public enum DataQualityReason {
             "insufficient-history",
             "Not enough history",
             "The rule needs a trend or a sustained period and the timeline does not yet hold enough values."),
+    SITE_PRESSURE_NOT_CONFIGURED(
+            Use.NOT_EVALUABLE,
+            "site-pressure-not-configured",
+            "Site barometric pressure not configured",
+            "The altitude-adjusted P/F ratio is computed only where the site configures its barometric pressure"
+                    + " (Berlin 2012 footnote); it is never guessed per patient."),
     OUT_OF_FORMULA_RANGE(
             Use.NOT_EVALUABLE,
             "out-of-formula-range",
