@@ -8,6 +8,7 @@ import java.net.InetAddress;
 import java.time.Duration;
 import java.util.Objects;
 import java.util.concurrent.atomic.AtomicBoolean;
+import javax.sql.DataSource;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.boot.web.embedded.tomcat.TomcatServletWebServerFactory;
@@ -43,6 +44,7 @@ public final class SandboxFhirServer implements AutoCloseable {
     private static RuntimeException sharedFailure;
 
     private final SandboxOptions options;
+    private final H2Database database;
     private final AnnotationConfigApplicationContext context;
     private final WebServer webServer;
     private final String baseUrl;
@@ -52,11 +54,13 @@ public final class SandboxFhirServer implements AutoCloseable {
 
     private SandboxFhirServer(
             SandboxOptions options,
+            H2Database database,
             AnnotationConfigApplicationContext context,
             WebServer webServer,
             Duration startupTime,
             boolean shared) {
         this.options = options;
+        this.database = database;
         this.context = context;
         this.webServer = webServer;
         this.baseUrl = "http://" + hostForUrl(options.bindAddress()) + ":" + webServer.getPort() + FHIR_PATH;
@@ -105,15 +109,21 @@ public final class SandboxFhirServer implements AutoCloseable {
     private static SandboxFhirServer start(SandboxOptions options, boolean shared) {
         Objects.requireNonNull(options, "options");
         long startedAt = System.nanoTime();
+        // Opened here, not in the context, so that "data directory in use" reaches the caller as it is.
+        H2Database database = H2Database.open(options.dataDirectoryIfAny());
         AnnotationConfigApplicationContext context = new AnnotationConfigApplicationContext();
         // HAPI's configuration classes refer to each other in cycles.
         context.setAllowCircularReferences(true);
         context.registerBean(SandboxOptions.class, () -> options);
+        // The database outlives the context (it is shut down after HAPI has stopped), so the context must not close
+        // the pool: an empty destroy method name stops Spring from inferring close().
+        context.registerBean(DataSource.class, database::dataSource, bean -> bean.setDestroyMethodName(""));
         context.register(FhirServerConfig.class);
         try {
             context.refresh();
         } catch (RuntimeException e) {
             context.close();
+            database.close();
             throw new IllegalStateException("The sandbox FHIR server failed to start: " + rootMessage(e), e);
         }
         WebServer webServer;
@@ -121,15 +131,16 @@ public final class SandboxFhirServer implements AutoCloseable {
             webServer = startWebServer(options, context.getBean(RestfulServer.class));
         } catch (RuntimeException e) {
             context.close();
+            database.close();
             throw e;
         }
         Duration startupTime = Duration.ofNanos(System.nanoTime() - startedAt);
-        SandboxFhirServer server = new SandboxFhirServer(options, context, webServer, startupTime, shared);
+        SandboxFhirServer server = new SandboxFhirServer(options, database, context, webServer, startupTime, shared);
         log.info(
                 "Sandbox FHIR server ready at {} in {} ms ({})",
                 server.baseUrl,
                 startupTime.toMillis(),
-                context.getBean(H2Database.class).description());
+                database.description());
         return server;
     }
 
@@ -200,7 +211,11 @@ public final class SandboxFhirServer implements AutoCloseable {
             // stop() only detaches the connector; destroy() also ends Tomcat's non-daemon threads.
             webServer.destroy();
         } finally {
-            context.close();
+            try {
+                context.close();
+            } finally {
+                database.close();
+            }
         }
     }
 
