@@ -3,8 +3,10 @@ package org.lungflag.sandbox.fhirserver;
 import ca.uhn.fhir.context.FhirContext;
 import ca.uhn.fhir.rest.server.RestfulServer;
 import jakarta.servlet.ServletRegistration;
+import java.io.IOException;
 import java.net.Inet6Address;
 import java.net.InetAddress;
+import java.net.ServerSocket;
 import java.time.Duration;
 import java.util.Objects;
 import java.util.concurrent.atomic.AtomicBoolean;
@@ -109,6 +111,7 @@ public final class SandboxFhirServer implements AutoCloseable {
     private static SandboxFhirServer start(SandboxOptions options, boolean shared) {
         Objects.requireNonNull(options, "options");
         long startedAt = System.nanoTime();
+        checkPortFree(options);
         // Opened here, not in the context, so that "data directory in use" reaches the caller as it is.
         H2Database database = H2Database.open(options.dataDirectoryIfAny());
         AnnotationConfigApplicationContext context = new AnnotationConfigApplicationContext();
@@ -144,6 +147,25 @@ public final class SandboxFhirServer implements AutoCloseable {
         return server;
     }
 
+    /** Says "port in use" before HAPI's half-minute start rather than after it; Tomcat's own bind still decides. */
+    private static void checkPortFree(SandboxOptions options) {
+        if (options.port() == 0) {
+            return;
+        }
+        try (ServerSocket probe = new ServerSocket(options.port(), 1, options.bindAddress())) {
+            // free now; closed again at once
+        } catch (IOException e) {
+            throw portInUse(options.port(), options, e);
+        }
+    }
+
+    private static IllegalStateException portInUse(int port, SandboxOptions options, Exception cause) {
+        return new IllegalStateException(
+                "Port " + port + " on " + options.bindAddress().getHostAddress()
+                        + " is in use; choose another port (0 picks a free one)",
+                cause);
+    }
+
     private static WebServer startWebServer(SandboxOptions options, RestfulServer servlet) {
         TomcatServletWebServerFactory factory = new TomcatServletWebServerFactory(options.port());
         factory.setAddress(options.bindAddress());
@@ -157,10 +179,7 @@ public final class SandboxFhirServer implements AutoCloseable {
             webServer.start();
         } catch (PortInUseException e) {
             webServer.destroy();
-            throw new IllegalStateException(
-                    "Port " + e.getPort() + " on " + options.bindAddress().getHostAddress()
-                            + " is in use; choose another port (0 picks a free one)",
-                    e);
+            throw portInUse(e.getPort(), options, e);
         }
         return webServer;
     }
