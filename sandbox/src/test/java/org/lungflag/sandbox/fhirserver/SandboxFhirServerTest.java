@@ -1,6 +1,7 @@
 package org.lungflag.sandbox.fhirserver;
 
 import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import static org.lungflag.sandbox.fhirserver.TestResources.LOINC;
 import static org.lungflag.sandbox.fhirserver.TestResources.PACO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.PAO2;
@@ -10,6 +11,7 @@ import static org.lungflag.sandbox.fhirserver.TestResources.newPatient;
 import ca.uhn.fhir.rest.api.MethodOutcome;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import ca.uhn.fhir.rest.gclient.TokenClientParam;
+import ca.uhn.fhir.rest.server.exceptions.InvalidRequestException;
 import java.util.List;
 import java.util.UUID;
 import org.hl7.fhir.instance.model.api.IBaseResource;
@@ -81,6 +83,15 @@ class SandboxFhirServerTest {
         assertThat(read.getCode().getCodingFirstRep().getCode()).isEqualTo(PAO2);
         assertThat(read.getValueQuantity().getValue()).isEqualByComparingTo("68.0");
         assertThat(read.getMeta().getLastUpdated()).isNotNull();
+    }
+
+    @Test
+    void observationOfAPatientTheServerDoesNotHoldIsRefused() {
+        Observation orphan = bloodGas("Patient/" + UUID.randomUUID(), PAO2, 68.0);
+
+        assertThatThrownBy(() -> client.create().resource(orphan).execute())
+                .isInstanceOf(InvalidRequestException.class)
+                .hasMessageContaining("not found, specified in path: Observation.subject");
     }
 
     @Test
