@@ -71,7 +71,8 @@ class FhirServerConfig {
         JpaStorageSettings settings = new JpaStorageSettings();
         // A search right after a write must see it: never answer from a cached earlier search.
         settings.setReuseCachedSearchResultsForMillis(null);
-        // Background jobs a sandbox never needs; each would otherwise run on a schedule.
+        // Background work a sandbox never needs: their scheduled jobs then return at once. (Without the legacy
+        // reindexing, a SearchParameter added later applies to resources written after it.)
         settings.setEnableTaskBulkImportJobExecution(false);
         settings.setEnableTaskBulkExportJobExecution(false);
         settings.setEnableTaskPreExpandValueSets(false);

@@ -122,15 +122,9 @@ public final class SandboxFhirServer implements AutoCloseable {
         // the pool: an empty destroy method name stops Spring from inferring close().
         context.registerBean(DataSource.class, database::dataSource, bean -> bean.setDestroyMethodName(""));
         context.register(FhirServerConfig.class);
-        try {
-            context.refresh();
-        } catch (RuntimeException e) {
-            context.close();
-            database.close();
-            throw new IllegalStateException("The sandbox FHIR server failed to start: " + rootMessage(e), e);
-        }
         WebServer webServer;
         try {
+            refresh(context);
             webServer = startWebServer(options, context.getBean(RestfulServer.class));
         } catch (RuntimeException e) {
             context.close();
@@ -145,6 +139,14 @@ public final class SandboxFhirServer implements AutoCloseable {
                 startupTime.toMillis(),
                 database.description());
         return server;
+    }
+
+    private static void refresh(AnnotationConfigApplicationContext context) {
+        try {
+            context.refresh();
+        } catch (RuntimeException e) {
+            throw new IllegalStateException("The sandbox FHIR server failed to start: " + rootMessage(e), e);
+        }
     }
 
     /** Says "port in use" before HAPI's half-minute start rather than after it; Tomcat's own bind still decides. */

@@ -3,6 +3,7 @@ package org.lungflag.sandbox.fhirserver;
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.lungflag.sandbox.fhirserver.TestResources.PAO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.bloodGas;
+import static org.lungflag.sandbox.fhirserver.TestResources.create;
 import static org.lungflag.sandbox.fhirserver.TestResources.newPatient;
 
 import ca.uhn.fhir.rest.client.api.IGenericClient;
@@ -28,18 +29,8 @@ class FileDatabaseServerTest {
         try (SandboxFhirServer first =
                 SandboxFhirServer.start(SandboxOptions.inMemory().withDataDirectory(data))) {
             IGenericClient client = first.fhirContext().newRestfulGenericClient(first.baseUrl());
-            patientId = client.create()
-                    .resource(newPatient())
-                    .execute()
-                    .getId()
-                    .toUnqualifiedVersionless()
-                    .getValue();
-            observationId = client.create()
-                    .resource(bloodGas(patientId, PAO2, 66.0))
-                    .execute()
-                    .getId()
-                    .toUnqualifiedVersionless()
-                    .getValue();
+            patientId = create(client, newPatient());
+            observationId = create(client, bloodGas(patientId, PAO2, 66.0));
         }
         assertThat(liveNonDaemonThreads())
                 .as("a closed server leaves no thread that keeps the JVM alive")

@@ -4,6 +4,7 @@ import static org.awaitility.Awaitility.await;
 import static org.lungflag.sandbox.fhirserver.TestResources.LOINC;
 import static org.lungflag.sandbox.fhirserver.TestResources.PAO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.bloodGas;
+import static org.lungflag.sandbox.fhirserver.TestResources.create;
 import static org.lungflag.sandbox.fhirserver.TestResources.newPatient;
 
 import ca.uhn.fhir.rest.client.api.IGenericClient;
@@ -12,6 +13,7 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
+import java.util.Optional;
 import org.hl7.fhir.r4.model.CapabilityStatement;
 import org.hl7.fhir.r4.model.IdType;
 import org.hl7.fhir.r4.model.Subscription;
@@ -69,27 +71,17 @@ class SandboxFhirServerBenchmark {
                             == Subscription.SubscriptionStatus.ACTIVE);
             print("Subscription create -> active", millisSince(subscribeStart) + " ms");
 
-            String patient = client.create()
-                    .resource(newPatient())
-                    .execute()
-                    .getId()
-                    .toUnqualifiedVersionless()
-                    .getValue();
+            String patient = create(client, newPatient());
             List<Long> latencies = new ArrayList<>();
             for (int i = 0; i < DELIVERIES; i++) {
                 long createStart = System.nanoTime();
-                String observation = client.create()
-                        .resource(bloodGas(patient, PAO2, 60.0 + i))
-                        .execute()
-                        .getId()
-                        .toUnqualifiedVersionless()
-                        .getValue();
+                String observation = create(client, bloodGas(patient, PAO2, 60.0 + i));
                 HookReceiver.Delivery delivery = await().atMost(Duration.ofSeconds(30))
                         .until(
                                 () -> receiver.deliveries().stream()
                                         .filter(d -> d.path().endsWith("/" + observation))
                                         .findFirst(),
-                                java.util.Optional::isPresent)
+                                Optional::isPresent)
                         .orElseThrow();
                 latencies.add(Duration.ofNanos(delivery.receivedAtNanos() - createStart)
                         .toMillis());
