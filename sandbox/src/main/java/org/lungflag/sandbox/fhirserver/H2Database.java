@@ -77,7 +77,7 @@ final class H2Database implements AutoCloseable {
             if (causeCode(e) == ErrorCode.DATABASE_ALREADY_OPEN_1) {
                 throw new IllegalStateException(
                         "The " + description
-                                + " is in use by another process; stop it or choose another --data directory",
+                                + " is in use by another process; stop that process or choose another data directory",
                         e);
             }
             throw new IllegalStateException("Cannot open the " + description + ": " + e.getMessage(), e);
