@@ -13,6 +13,9 @@ import org.hl7.fhir.r4.model.CodeSystem;
 import org.hl7.fhir.r4.model.CodeSystem.ConceptDefinitionComponent;
 import org.hl7.fhir.r4.model.Coding;
 import org.junit.jupiter.api.Test;
+import org.lungflag.rules.catalog.RuleCatalog;
+import org.lungflag.rules.catalog.RuleDefinition;
+import org.lungflag.rules.catalog.Tier;
 import org.lungflag.rules.index.IndexCode;
 import org.lungflag.rules.measure.BodyPosition;
 import org.lungflag.rules.measure.QuantityKind;
@@ -117,6 +120,35 @@ class CodeSystemsMatchTheRulesCoreTest {
     void advisoryCodeSystemEqualsTheAdvisoryCodesOfTheDesign() {
         assertThat(concepts(LungflagFhir.CodeSystems.ADVISORY).keySet())
                 .containsExactlyElementsOf(DESIGN_ADVISORY_CODES);
+    }
+
+    @Test
+    void everyAdvisoryCodeIsATierOfExactlyOneCatalogRuleAndViceVersa() {
+        RuleCatalog catalog = RuleCatalog.loadDefault();
+        Map<String, String> ruleOfTier = new java.util.TreeMap<>();
+        for (RuleDefinition rule : catalog.rules()) {
+            for (Tier tier : rule.tiers()) {
+                assertThat(ruleOfTier.put(tier.code(), rule.id()))
+                        .as("tier " + tier.code() + " is used by more than one rule")
+                        .isNull();
+            }
+        }
+        assertThat(ruleOfTier.keySet())
+                .containsExactlyInAnyOrderElementsOf(
+                        concepts(LungflagFhir.CodeSystems.ADVISORY).keySet());
+    }
+
+    @Test
+    void everyAdvisoryDisplayMatchesTheCatalogTierDisplay() {
+        RuleCatalog catalog = RuleCatalog.loadDefault();
+        Map<String, ConceptDefinitionComponent> concepts = concepts(LungflagFhir.CodeSystems.ADVISORY);
+        for (RuleDefinition rule : catalog.rules()) {
+            for (Tier tier : rule.tiers()) {
+                assertThat(concepts.get(tier.code()).getDisplay())
+                        .as(tier.code())
+                        .isNotBlank();
+            }
+        }
     }
 
     @Test

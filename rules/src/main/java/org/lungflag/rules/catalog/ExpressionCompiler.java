@@ -18,7 +18,6 @@ import dev.cel.runtime.CelEvaluationException;
 import dev.cel.runtime.CelRuntime;
 import dev.cel.runtime.CelRuntimeFactory;
 import java.util.ArrayList;
-import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.LinkedHashSet;
 import java.util.List;
@@ -418,9 +417,8 @@ final class ExpressionCompiler {
         if (m.startsWith("undeclared reference to 'params'")) {
             String rest = textAt(text, loc);
             String name = rest.startsWith("params.") ? rest.substring(7).split("[^a-z0-9_A-Z]", 2)[0] : "";
-            Map<String, ParameterDefinition> celParams = new HashMap<>(params);
             return "the parameter '" + name + "' is not declared under parameters"
-                    + RuleReader.suggestion(name, celParams.keySet()) + "; declared: "
+                    + RuleReader.suggestion(name, params.keySet()) + "; declared: "
                     + String.join(", ", params.keySet());
         }
         if (m.startsWith("undeclared reference to '")) {

@@ -5,7 +5,6 @@ import java.util.ArrayList;
 import java.util.EnumSet;
 import java.util.HashSet;
 import java.util.LinkedHashMap;
-import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
@@ -775,9 +774,5 @@ final class RuleReader {
             }
         }
         return node.positionOf(line, col);
-    }
-
-    static Set<String> orderedSet() {
-        return new LinkedHashSet<>();
     }
 }

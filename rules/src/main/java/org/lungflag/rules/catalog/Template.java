@@ -70,17 +70,53 @@ public final class Template {
         if (!Double.isFinite(value)) {
             return String.valueOf(value);
         }
-        java.math.BigDecimal d = java.math.BigDecimal.valueOf(value);
-        if (decimals >= 0) {
-            d = d.setScale(decimals, java.math.RoundingMode.HALF_UP);
+        int d = decimals >= 0 ? decimals : 2;
+        double scaled = value * POWERS[Math.min(d, POWERS.length - 1)];
+        double fraction = Math.abs(scaled - Math.floor(scaled));
+        String s;
+        if (d >= POWERS.length || Math.abs(scaled) > 1e15 || Math.abs(fraction - 0.5) < 1e-6) {
+            // near a tie (or huge): let BigDecimal round the decimal value half-up exactly
+            java.math.BigDecimal b = java.math.BigDecimal.valueOf(value).setScale(d, java.math.RoundingMode.HALF_UP);
+            s = b.toPlainString();
         } else {
-            d = d.setScale(2, java.math.RoundingMode.HALF_UP).stripTrailingZeros();
-            if (d.scale() < 0) {
-                d = d.setScale(0);
-            }
+            long r = Math.round(scaled);
+            s = fixed(r, d);
         }
-        String s = d.toPlainString();
+        if (decimals < 0 && s.indexOf('.') >= 0) {
+            int end = s.length();
+            while (s.charAt(end - 1) == '0') {
+                end--;
+            }
+            if (s.charAt(end - 1) == '.') {
+                end--;
+            }
+            s = s.substring(0, end);
+        }
         return s.equals("-0") || s.matches("-0\\.0*") ? s.substring(1) : s;
+    }
+
+    private static final double[] POWERS = {1, 10, 100, 1000, 10000, 100000, 1000000};
+
+    private static String fixed(long scaled, int decimals) {
+        boolean negative = scaled < 0;
+        String digits = Long.toString(Math.abs(scaled));
+        if (decimals == 0) {
+            return negative ? "-" + digits : digits;
+        }
+        StringBuilder sb = new StringBuilder(digits.length() + 3);
+        if (negative) {
+            sb.append('-');
+        }
+        if (digits.length() <= decimals) {
+            sb.append("0.");
+            sb.append("0".repeat(decimals - digits.length()));
+            sb.append(digits);
+        } else {
+            sb.append(digits, 0, digits.length() - decimals)
+                    .append('.')
+                    .append(digits, digits.length() - decimals, digits.length());
+        }
+        return sb.toString();
     }
 
     /**

@@ -142,7 +142,7 @@ final class YamlNode {
 
     /**
      * Maps a (1-based line, 0-based column) position inside this scalar's text to the file position, for plain,
-     * quoted (without escapes) and literal block scalars. Other styles fall back to the scalar's start.
+     * quoted (without escapes), literal and folded block scalars. Other cases fall back to the scalar's start.
      */
     int[] positionOf(int textLine, int textColumn) {
         ScalarNode scalar = (ScalarNode) node;
@@ -163,6 +163,20 @@ final class YamlNode {
             int first = start.getLine() + 1; // the block's indentation is that of its first content line
             int indent = first < lines.length ? leadingSpaces(lines[first]) : 0;
             return new int[] {contentLine + 1, indent + 1 + textColumn};
+        }
+        if (style == ScalarStyle.FOLDED && textLine == 1) {
+            // folded lines were joined with single spaces: walk the file's content lines to find the column
+            int remaining = textColumn;
+            for (int l = start.getLine() + 1; l < lines.length; l++) {
+                String content = lines[l].strip();
+                if (content.isEmpty()) {
+                    break;
+                }
+                if (remaining <= content.length()) {
+                    return new int[] {l + 1, leadingSpaces(lines[l]) + 1 + remaining};
+                }
+                remaining -= content.length() + 1;
+            }
         }
         return new int[] {start.getLine() + 1, start.getColumn() + 1};
     }

@@ -30,8 +30,16 @@ final class CompiledRule {
     final Duration consecutiveSpacing;
     final Duration resolveAfter;
     final Duration expireAfter;
+    /** The general caution, the rule's own, and the same with the pulse-oximetry caution added. */
+    final String caution;
+
+    final String cautionWithPulseOximetry;
+
     /** The longest window of an index aggregate (how much history to keep), or zero. */
     final Duration historyWindow;
+
+    /** The indices the rule's aggregates read, whose values are kept as history. */
+    final java.util.Set<org.lungflag.rules.index.IndexCode> historyIndices;
 
     CompiledRule(RuleDefinition definition, ParameterOverrides overrides) {
         this.definition = definition;
@@ -51,7 +59,7 @@ final class CompiledRule {
         }
         this.celParameters = Collections.unmodifiableMap(cel);
         this.durations = Collections.unmodifiableMap(d);
-        this.parameterTexts = Collections.unmodifiableMap(texts);
+        this.parameterTexts = Map.copyOf(texts);
         Map<String, RuleLogic.Derived> dv = new HashMap<>();
         definition.logic().derived().forEach(x -> dv.put(x.name(), x));
         this.derived = Collections.unmodifiableMap(dv);
@@ -71,6 +79,16 @@ final class CompiledRule {
             }
         }
         this.historyWindow = h;
+        java.util.Set<org.lungflag.rules.index.IndexCode> codes =
+                java.util.EnumSet.noneOf(org.lungflag.rules.index.IndexCode.class);
+        for (Aggregate a : definition.aggregates()) {
+            if (a.index() != null) {
+                codes.add(a.index());
+            }
+        }
+        this.historyIndices = java.util.Collections.unmodifiableSet(codes);
+        this.caution = org.lungflag.rules.catalog.Cautions.GENERAL + " " + definition.caution();
+        this.cautionWithPulseOximetry = caution + " " + org.lungflag.rules.catalog.Cautions.PULSE_OXIMETRY;
     }
 
     static String formatDuration(Duration d) {

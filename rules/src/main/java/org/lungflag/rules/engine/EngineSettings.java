@@ -23,7 +23,7 @@ public record EngineSettings(PairingSettings pairing, ZoneId displayZone, int ch
     }
 
     public static EngineSettings defaults() {
-        return new EngineSettings(PairingSettings.defaults(), ZoneId.of("UTC"), 8);
+        return new EngineSettings(PairingSettings.defaults(), ZoneId.of("UTC"), 16);
     }
 
     public EngineSettings withDisplayZone(ZoneId zone) {

@@ -57,10 +57,6 @@ public record Episode(
         return new Episode(key, patientId, ruleId, ruleVersion, ruleDigest, start, tier, tierHistory, closedStatus, at);
     }
 
-    public boolean isActive() {
-        return status == EpisodeStatus.ACTIVE;
-    }
-
     /** The stable episode key: the first 32 hex digits of SHA-256 over patient id, rule id and start time. */
     public static String key(String patientId, String ruleId, Instant start) {
         try {

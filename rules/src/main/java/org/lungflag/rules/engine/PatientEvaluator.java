@@ -122,6 +122,9 @@ public final class PatientEvaluator {
         for (ClinicalFact f : facts) {
             earliest = earliest == null || f.time().isBefore(earliest) ? f.time() : earliest;
         }
+        if (earliest == null) {
+            return Batch.empty(result); // a resource that contributes no facts, before or now
+        }
         Batch b = changedFrom(earliest, result);
         pruneCheckpoints();
         return b;
@@ -150,7 +153,8 @@ public final class PatientEvaluator {
             return Batch.empty(null);
         }
         this.patient = updated;
-        return rerun(checkpoints.firstEntry(), true, null);
+        Map.Entry<Instant, EngineState> horizon = checkpoints.firstEntry();
+        return rerun(horizon, !horizon.getKey().equals(Instant.MIN), null);
     }
 
     /** Evaluates every evaluation point after the current state (e.g. after {@link #resume}). */
@@ -212,8 +216,8 @@ public final class PatientEvaluator {
     private Batch rerun(Map.Entry<Instant, EngineState> base, boolean beyond, AddResult result) {
         Instant clock = current.clock();
         Instant baseKey = base.getKey();
+        // checkpoints after the base are stale; the base itself is a checkpoint or the state before the last point
         checkpoints.tailMap(baseKey, false).clear();
-        checkpoints.put(baseKey, base.getValue());
         lastStep = base.getValue();
         previousStep = null;
         current = base.getValue();

@@ -5,11 +5,9 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.EnumSet;
 import java.util.List;
-import java.util.Map;
 import java.util.Objects;
 import java.util.Optional;
 import java.util.Set;
-import java.util.TreeMap;
 import org.lungflag.rules.catalog.ParameterOverrides;
 import org.lungflag.rules.catalog.Population;
 import org.lungflag.rules.catalog.RuleCatalog;
@@ -22,7 +20,6 @@ import org.lungflag.rules.index.IndexResult;
 import org.lungflag.rules.index.IndexValue;
 import org.lungflag.rules.index.NotEvaluable;
 import org.lungflag.rules.measure.QuantityKind;
-import org.lungflag.rules.measure.SupportMode;
 import org.lungflag.rules.pairing.PairedInputs;
 import org.lungflag.rules.pairing.Pairing;
 import org.lungflag.rules.patient.PatientFacts;
@@ -40,6 +37,9 @@ import org.lungflag.rules.timeline.PatientTimeline;
  * #advance} moves clinical time on with no new data (resolution and expiry by time passing).
  */
 public final class RuleEngine {
+
+    private static final java.util.Comparator<RuleEvaluation> EVALUATION_ORDER =
+            java.util.Comparator.comparing(RuleEvaluation::at).thenComparing(RuleEvaluation::ruleId);
 
     private final RuleCatalog catalog;
     private final List<CompiledRule> rules;
@@ -75,6 +75,15 @@ public final class RuleEngine {
                 EngineSettings.defaults());
     }
 
+    /** The engine with the real index calculator for a site's parameters and the given settings. */
+    public static RuleEngine create(
+            RuleCatalog catalog,
+            ParameterOverrides overrides,
+            org.lungflag.rules.index.SiteParameters site,
+            EngineSettings settings) {
+        return new RuleEngine(catalog, overrides, new CalculatorIndexProvider(site), settings);
+    }
+
     public RuleCatalog catalog() {
         return catalog;
     }
@@ -106,18 +115,19 @@ public final class RuleEngine {
             }
         }
         List<RuleEvaluation> out = new ArrayList<>();
-        Map<String, RuleState> states = states(state);
+        RuleState[] states = states(state);
         Scope.Anchor anchor = null;
-        for (CompiledRule rule : rules) {
+        for (int i = 0; i < rules.size(); i++) {
+            CompiledRule rule = rules.get(i);
             String id = rule.definition.id();
-            RuleState rs = states.getOrDefault(id, RuleState.initial(id));
+            RuleState rs = states[i];
             boolean triggered = triggered(rule.definition, present);
             // deadlines up to this point are settled here, so every evaluation this step emits lies after the
             // previous point and at or before this one (what a re-run from a checkpoint relies on); a deadline
             // falling exactly at a point where the rule is evaluated waits for that evaluation (ties go to data)
             rs = closeDue(rule, rs, state.patientId(), at, !triggered, out);
             if (!triggered) {
-                states.put(id, rs);
+                states[i] = rs;
                 continue;
             }
             if (anchor == null) {
@@ -138,10 +148,10 @@ public final class RuleEngine {
                 out.add(ev.evaluation);
             }
             rs = closeDue(rule, rs, state.patientId(), at, true, out);
-            states.put(id, rs);
+            states[i] = rs;
         }
         Instant clock = state.clock() == null || state.clock().isBefore(at) ? at : state.clock();
-        return new StepResult(new EngineState(state.patientId(), at, clock, sorted(states)), sortedEvaluations(out));
+        return new StepResult(new EngineState(state.patientId(), at, clock, List.of(states)), sortedEvaluations(out));
     }
 
     /**
@@ -153,16 +163,13 @@ public final class RuleEngine {
         if (prior.clock() != null && !to.isAfter(prior.clock())) {
             return new StepResult(prior, List.of());
         }
-        Map<String, RuleState> states = states(prior);
+        RuleState[] states = states(prior);
         List<RuleEvaluation> out = new ArrayList<>();
-        for (CompiledRule rule : rules) {
-            RuleState rs = states.get(rule.definition.id());
-            if (rs != null) {
-                states.put(rule.definition.id(), closeDue(rule, rs, prior.patientId(), to, true, out));
-            }
+        for (int i = 0; i < rules.size(); i++) {
+            states[i] = closeDue(rules.get(i), states[i], prior.patientId(), to, true, out);
         }
         return new StepResult(
-                new EngineState(prior.patientId(), prior.evaluatedUpTo(), to, sorted(states)), sortedEvaluations(out));
+                new EngineState(prior.patientId(), prior.evaluatedUpTo(), to, List.of(states)), sortedEvaluations(out));
     }
 
     private static boolean triggered(RuleDefinition rule, Set<QuantityKind> present) {
@@ -174,20 +181,28 @@ public final class RuleEngine {
         return false;
     }
 
-    private static Map<String, RuleState> states(EngineState state) {
-        Map<String, RuleState> m = new TreeMap<>();
-        for (RuleState r : state.rules()) {
-            m.put(r.ruleId(), r);
+    /** One state per catalog rule, in the catalog's (id) order; a persisted state's rules are matched by id. */
+    private RuleState[] states(EngineState state) {
+        RuleState[] out = new RuleState[rules.size()];
+        List<RuleState> given = state.rules();
+        boolean aligned = given.size() == out.length;
+        for (int i = 0; aligned && i < out.length; i++) {
+            aligned = given.get(i).ruleId().equals(rules.get(i).definition.id());
         }
-        return m;
-    }
-
-    private static List<RuleState> sorted(Map<String, RuleState> states) {
-        return new ArrayList<>(states.values());
+        if (aligned) {
+            return given.toArray(out);
+        }
+        for (int i = 0; i < out.length; i++) {
+            String id = rules.get(i).definition.id();
+            out[i] = state.rule(id).orElseGet(() -> RuleState.initial(id));
+        }
+        return out;
     }
 
     private static List<RuleEvaluation> sortedEvaluations(List<RuleEvaluation> out) {
-        out.sort(java.util.Comparator.comparing(RuleEvaluation::at).thenComparing(RuleEvaluation::ruleId));
+        if (out.size() > 1) {
+            out.sort(EVALUATION_ORDER);
+        }
         return out;
     }
 
@@ -508,13 +523,7 @@ public final class RuleEngine {
                 h.add(s);
             }
         }
-        Set<IndexCode> codes = EnumSet.noneOf(IndexCode.class);
-        rule.definition.aggregates().forEach(a -> {
-            if (a.index() != null) {
-                codes.add(a.index());
-            }
-        });
-        for (IndexCode code : codes) {
+        for (IndexCode code : rule.historyIndices) {
             Optional<IndexResult> r = scope.anchor().index(code);
             if (r.isPresent() && r.get() instanceof IndexValue iv) {
                 h.add(new IndexSample(code.code(), at, iv.value()));
@@ -545,9 +554,5 @@ public final class RuleEngine {
         RuleDefinition d = rule.definition;
         return new RuleEvaluation(
                 patientId, d.id(), d.version(), d.digest(), at, outcome, tier, reason, detail, episode, explanation);
-    }
-
-    static boolean supportIn(Set<SupportMode> modes, SupportMode mode) {
-        return modes.isEmpty() || modes.contains(mode);
     }
 }

@@ -225,71 +225,63 @@ final class Scope implements CelVariableResolver {
     private void computeAggregate(Aggregate a) {
         Duration window = rule.durations.get(a.windowParameter());
         Instant from = anchor.at.minus(window);
-        double acc = Double.NaN;
-        double first = Double.NaN;
-        double last = Double.NaN;
-        double sum = 0;
-        long count = 0;
+        Window w = new Window();
         if (a.index() != null) {
             String code = a.index().code();
             for (IndexSample s : state.history()) {
                 if (s.index().equals(code) && !s.at().isBefore(from) && s.at().isBefore(anchor.at)) {
-                    if (count == 0) {
-                        first = s.value();
-                    }
-                    last = s.value();
-                    acc = accumulate(a.function(), acc, s.value());
-                    sum += s.value();
-                    count++;
+                    w.add(s.value());
                 }
             }
-            IndexResult current = anchor.index(a.index()).orElse(null);
-            if (current instanceof IndexValue iv) {
-                if (count == 0) {
-                    first = iv.value();
-                }
-                last = iv.value();
-                acc = accumulate(a.function(), acc, iv.value());
-                sum += iv.value();
-                count++;
+            if (anchor.index(a.index()).orElse(null) instanceof IndexValue iv) {
+                w.add(iv.value()); // the current value is part of the window
             }
         } else {
             for (Measurement m : anchor.timeline.measurementsBetween(a.kind(), from, anchor.at)) {
-                if (RuleVariables.arterialOnly(a.kind()) && m.specimen() != SpecimenKind.ARTERIAL) {
-                    continue;
+                if (!RuleVariables.arterialOnly(a.kind()) || m.specimen() == SpecimenKind.ARTERIAL) {
+                    w.add(m.value());
                 }
-                if (count == 0) {
-                    first = m.value();
-                }
-                last = m.value();
-                acc = accumulate(a.function(), acc, m.value());
-                sum += m.value();
-                count++;
             }
         }
-        Object value = switch (a.function()) {
-            case MIN, MAX -> acc;
-            case MEAN -> count == 0 ? Double.NaN : sum / count;
-            case FIRST -> first;
-            case LAST -> last;
-            case COUNT -> count;
-        };
         if (cache == null) {
             cache = new HashMap<>(8);
         }
-        cache.put(a.name(), value);
-        cache.put(a.name() + "_available", count > 0);
-        cache.put(a.name() + "_count", count);
+        cache.put(a.name(), w.result(a.function()));
+        cache.put(a.name() + "_available", w.count > 0);
+        cache.put(a.name() + "_count", w.count);
     }
 
-    private static double accumulate(AggregateFunction f, double acc, double v) {
-        if (Double.isNaN(acc)) {
-            return v;
+    /** The values of one aggregate's window, in clinical order. */
+    private static final class Window {
+        double min = Double.NaN;
+        double max = Double.NaN;
+        double first = Double.NaN;
+        double last = Double.NaN;
+        double sum;
+        long count;
+
+        void add(double v) {
+            if (count == 0) {
+                first = v;
+                min = v;
+                max = v;
+            }
+            min = Math.min(min, v);
+            max = Math.max(max, v);
+            last = v;
+            sum += v;
+            count++;
         }
-        return switch (f) {
-            case MIN -> Math.min(acc, v);
-            case MAX -> Math.max(acc, v);
-            default -> acc;
-        };
+
+        Object result(AggregateFunction f) {
+            return switch (f) {
+                case MIN -> min;
+                case MAX -> max;
+                case MEAN -> count == 0 ? Double.NaN : sum / count;
+                case FIRST -> first;
+                case LAST -> last;
+                case COUNT -> count;
+            };
+        }
     }
 }

@@ -10,7 +10,6 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
-import org.lungflag.rules.catalog.Cautions;
 import org.lungflag.rules.catalog.RuleLogic;
 import org.lungflag.rules.catalog.RuleVariables;
 import org.lungflag.rules.catalog.Template;
@@ -194,11 +193,6 @@ final class Texts {
     }
 
     private static String caution(CompiledRule rule, boolean spo2) {
-        StringBuilder sb = new StringBuilder(Cautions.GENERAL);
-        sb.append(' ').append(rule.definition.caution());
-        if (spo2) {
-            sb.append(' ').append(Cautions.PULSE_OXIMETRY);
-        }
-        return sb.toString();
+        return spo2 ? rule.cautionWithPulseOximetry : rule.caution;
     }
 }

@@ -11,6 +11,7 @@ import java.util.List;
 import java.util.Locale;
 import java.util.Objects;
 import org.lungflag.rules.measure.Measurement;
+import org.lungflag.rules.measure.NumberText;
 import org.lungflag.rules.measure.QuantityKind;
 import org.lungflag.rules.measure.SpecimenKind;
 import org.lungflag.rules.measure.ValueRole;
@@ -113,7 +114,7 @@ public final class IndexCalculator {
         }
         IndexResult pf = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.pfRatio(pao2.value(), fio2.value()),
                         def.formula(),
@@ -129,7 +130,7 @@ public final class IndexCalculator {
                     DataQualityReason.SITE_PRESSURE_NOT_CONFIGURED,
                     "no site barometric pressure is configured, so P/F is not adjusted for altitude");
         } else if (pf instanceof IndexValue v) {
-            r[def.code().ordinal()] = new IndexValue(
+            r[def.code().ordinal()] = result(
                     def.code(),
                     Formulas.altitudeAdjustedPfRatio(v.value(), site.barometricPressureMmHg()),
                     def.formula(),
@@ -146,7 +147,7 @@ public final class IndexCalculator {
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.sfRatio(spo2.value() * 100.0, fio2.value()),
                         def.formula(),
@@ -158,15 +159,11 @@ public final class IndexCalculator {
         def = IndexDefinitions.OXYGENATION_INDEX;
         refusal = arterial(def, pao2, QuantityKind.PAO2, DataQualityReason.MISSING_PAO2, inputs);
         if (refusal == null) {
-            refusal = fio2Refusal(def, fio2, peep, inputs);
-        }
-        if (refusal == null && meanAirway == null) {
-            refusal = missing(
-                    def, QuantityKind.MEAN_AIRWAY_PRESSURE, DataQualityReason.MISSING_MEAN_AIRWAY_PRESSURE, inputs);
+            refusal = ventilatorRefusal(def, fio2, peep, meanAirway, inputs);
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.oxygenationIndex(fio2.value(), meanAirway.value(), pao2.value()),
                         def.formula(),
@@ -176,15 +173,11 @@ public final class IndexCalculator {
         def = IndexDefinitions.OXYGEN_SATURATION_INDEX;
         refusal = spo2Refusal(def, spo2, inputs);
         if (refusal == null) {
-            refusal = fio2Refusal(def, fio2, peep, inputs);
-        }
-        if (refusal == null && meanAirway == null) {
-            refusal = missing(
-                    def, QuantityKind.MEAN_AIRWAY_PRESSURE, DataQualityReason.MISSING_MEAN_AIRWAY_PRESSURE, inputs);
+            refusal = ventilatorRefusal(def, fio2, peep, meanAirway, inputs);
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.oxygenSaturationIndex(fio2.value(), meanAirway.value(), spo2.value() * 100.0),
                         def.formula(),
@@ -211,7 +204,7 @@ public final class IndexCalculator {
         if (vt == null) {
             r[def.code().ordinal()] = missingTidalVolume(def, inputs);
         } else if (pbw instanceof IndexValue w) {
-            r[def.code().ordinal()] = new IndexValue(
+            r[def.code().ordinal()] = result(
                     def.code(),
                     Formulas.tidalVolumePerKg(vt.value(), w.value()),
                     def.formula(),
@@ -240,7 +233,7 @@ public final class IndexCalculator {
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.arterialOxygenContent(site.hufnerConstant(), hb.value(), sao2.value(), pao2.value()),
                         def.formula(),
@@ -304,7 +297,7 @@ public final class IndexCalculator {
             r[IndexCode.ARTERIAL_ALVEOLAR_RATIO.ordinal()] = propagate(text.ratio(), nonPositive);
             return;
         }
-        r[IndexCode.ALVEOLAR_OXYGEN.ordinal()] = new IndexValue(def.code(), alveolarO2, def.formula(), used, notes);
+        r[IndexCode.ALVEOLAR_OXYGEN.ordinal()] = result(def.code(), alveolarO2, def.formula(), used, notes);
 
         IndexDefinition gradient = text.gradient();
         IndexDefinition ratio = text.ratio();
@@ -318,13 +311,13 @@ public final class IndexCalculator {
         List<Measurement> usedWithPao2 =
                 chartedPb == null ? List.of(fio2, paco2, pao2) : List.of(fio2, paco2, chartedPb, pao2);
         double aa = Formulas.aaGradient(alveolarO2, pao2.value());
-        r[IndexCode.AA_GRADIENT.ordinal()] = new IndexValue(
+        r[IndexCode.AA_GRADIENT.ordinal()] = result(
                 gradient.code(),
                 aa,
                 gradient.formula(),
                 usedWithPao2,
                 aa < 0 ? List.of(text.alveolarNote(), pbNote, NOTE_AA_NEGATIVE) : notes);
-        r[IndexCode.ARTERIAL_ALVEOLAR_RATIO.ordinal()] = new IndexValue(
+        r[IndexCode.ARTERIAL_ALVEOLAR_RATIO.ordinal()] = result(
                 ratio.code(),
                 Formulas.arterialAlveolarRatio(pao2.value(), alveolarO2),
                 ratio.formula(),
@@ -373,7 +366,7 @@ public final class IndexCalculator {
             }
             notes = List.copyOf(n);
         }
-        return new IndexValue(def.code(), kg, def.formula(), List.of(height), notes);
+        return result(def.code(), kg, def.formula(), List.of(height), notes);
     }
 
     private static void ventilation(
@@ -416,7 +409,7 @@ public final class IndexCalculator {
                 used = List.of(measuredVt, rate, paco2, height);
                 notes = List.of(NOTE_VE_DERIVED);
             }
-            r[def.code().ordinal()] = new IndexValue(
+            r[def.code().ordinal()] = result(
                     def.code(),
                     Formulas.ventilatoryRatio(veMlPerMin, paco2.value(), ((IndexValue) pbw).value()),
                     def.formula(),
@@ -442,7 +435,7 @@ public final class IndexCalculator {
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.deadSpaceFraction(paco2.value(), peco2.value()),
                         def.formula(),
@@ -457,7 +450,7 @@ public final class IndexCalculator {
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.paco2Etco2Gradient(paco2.value(), etco2.value()),
                         def.formula(),
@@ -480,7 +473,7 @@ public final class IndexCalculator {
                 : List.of(NOTE_PLATEAU);
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.drivingPressure(plateau.value(), peep.value()),
                         def.formula(),
@@ -502,7 +495,7 @@ public final class IndexCalculator {
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.staticCompliance(vt.value(), plateau.value(), peep.value()),
                         def.formula(),
@@ -538,7 +531,7 @@ public final class IndexCalculator {
         }
         r[def.code().ordinal()] = refusal != null
                 ? refusal
-                : new IndexValue(
+                : result(
                         def.code(),
                         Formulas.mechanicalPowerSurrogate(
                                 vt.value() / 1000.0, // mL → L (SI prefix)
@@ -613,6 +606,51 @@ public final class IndexCalculator {
         return missing(def, QuantityKind.FIO2, MISSING_FIO2, inputs);
     }
 
+    /**
+     * A value, or "out of formula range" when the arithmetic gives no finite number (inputs that bypassed the
+     * normalizer's plausibility gates, e.g. an FiO2 of 0): the calculator never throws on data.
+     */
+    private static IndexResult result(
+            IndexCode code, double value, FormulaRef formula, List<Measurement> used, List<String> notes) {
+        if (!Double.isFinite(value)) {
+            return new NotEvaluable(
+                    code,
+                    formula,
+                    OUT_OF_FORMULA_RANGE,
+                    code.display() + " gives no finite number from these inputs (" + describeInputs(used) + ")");
+        }
+        return new IndexValue(code, value, formula, used, notes);
+    }
+
+    private static String describeInputs(List<Measurement> used) {
+        StringBuilder sb = new StringBuilder();
+        for (Measurement m : used) {
+            if (m == null) {
+                continue;
+            }
+            if (sb.length() > 0) {
+                sb.append(", ");
+            }
+            sb.append(m.kind().label())
+                    .append(' ')
+                    .append(number(m.value()))
+                    .append(' ')
+                    .append(m.unit());
+        }
+        return sb.toString();
+    }
+
+    /** FiO2 and mean airway pressure, as OI and OSI need them; null when both are in force. */
+    private static NotEvaluable ventilatorRefusal(
+            IndexDefinition def, Measurement fio2, Measurement peep, Measurement meanAirway, PairedInputs inputs) {
+        NotEvaluable refusal = fio2Refusal(def, fio2, peep, inputs);
+        if (refusal == null && meanAirway == null) {
+            refusal = missing(
+                    def, QuantityKind.MEAN_AIRWAY_PRESSURE, DataQualityReason.MISSING_MEAN_AIRWAY_PRESSURE, inputs);
+        }
+        return refusal;
+    }
+
     private static NotEvaluable spo2Refusal(IndexDefinition def, Measurement spo2, PairedInputs inputs) {
         if (spo2 == null) {
             return missing(def, QuantityKind.SPO2, DataQualityReason.MISSING_SPO2, inputs);
@@ -662,19 +700,8 @@ public final class IndexCalculator {
         return t;
     }
 
-    /** A number for notes and details: up to 4 decimals, no trailing zeros, locale-independent. */
+    /** A number for notes and details (see {@link NumberText}). */
     static String number(double v) {
-        if (v == Math.rint(v) && Math.abs(v) < 1e15) {
-            return Long.toString((long) v);
-        }
-        String s = String.format(Locale.ROOT, "%.4f", v);
-        int end = s.length();
-        while (s.charAt(end - 1) == '0') {
-            end--;
-        }
-        if (s.charAt(end - 1) == '.') {
-            end--;
-        }
-        return s.substring(0, end);
+        return NumberText.of(v);
     }
 }

@@ -1,9 +1,9 @@
 package org.lungflag.rules.units;
 
 import java.util.List;
-import java.util.Locale;
 import java.util.Objects;
 import org.lungflag.rules.measure.Measurement;
+import org.lungflag.rules.measure.NumberText;
 import org.lungflag.rules.measure.OriginalQuantity;
 import org.lungflag.rules.measure.QuantityKind;
 import org.lungflag.rules.measure.UnitRepair;
@@ -114,22 +114,7 @@ public final class MeasurementNormalizer {
         return new NormalizationResult.Refused(reason, detail);
     }
 
-    /** Up to 6 significant decimals, no trailing zeros, locale-independent. */
     static String number(double v) {
-        if (v == Math.rint(v) && Math.abs(v) < 1e15) {
-            return Long.toString((long) v);
-        }
-        if (Math.abs(v) >= 1e15 || (v != 0 && Math.abs(v) < 1e-6)) {
-            return String.format(Locale.ROOT, "%.6g", v);
-        }
-        String s = String.format(Locale.ROOT, "%.6f", v);
-        int end = s.length();
-        while (s.charAt(end - 1) == '0') {
-            end--;
-        }
-        if (s.charAt(end - 1) == '.') {
-            end--;
-        }
-        return s.substring(0, end);
+        return NumberText.of(v);
     }
 }

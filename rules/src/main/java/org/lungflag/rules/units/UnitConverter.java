@@ -139,7 +139,7 @@ public final class UnitConverter {
     }
 
     /** The UCUM library's own conversion of a decimal string: the reference the cached path is tested against. */
-    public String convertWithLibrary(String decimal, String from, String to) throws UcumException {
+    String convertWithLibrary(String decimal, String from, String to) throws UcumException {
         return ucum.convert(new Decimal(decimal), from, to).asDecimal();
     }
 

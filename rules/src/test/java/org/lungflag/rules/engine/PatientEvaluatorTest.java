@@ -141,6 +141,39 @@ class PatientEvaluatorTest {
     }
 
     @Test
+    void a_blood_gas_entered_in_error_is_retracted_and_its_episode_disappears() {
+        PatientEvaluator ev = evaluator();
+        ev.offer(f.support(SupportMode.INVASIVE_VENTILATION, Facts.at(0, 0)));
+        ev.offer(f.setting(QuantityKind.FIO2, 0.50, Facts.at(2, 40)));
+        ev.offer(f.setting(QuantityKind.PEEP, 8, Facts.at(2, 40)));
+        ClinicalFact gas = f.measured(QuantityKind.PAO2, 80, Facts.at(3, 10));
+        ev.offer(gas);
+        assertThat(ev.activeEpisodes()).hasSize(1);
+
+        PatientEvaluator.Batch b =
+                ev.retract(gas.source().resourceType(), gas.source().id());
+        assertThat(b.supersedesAfter()).isBefore(Facts.at(3, 10));
+        assertThat(b.evaluations()).noneMatch(e -> e.at().equals(Facts.at(3, 10)));
+        assertThat(ev.activeEpisodes()).isEmpty();
+    }
+
+    @Test
+    void a_corrected_birth_date_re_runs_with_the_other_age_group() {
+        PatientEvaluator ev = evaluator();
+        ev.offer(f.support(SupportMode.INVASIVE_VENTILATION, Facts.at(0, 0)));
+        ev.offer(f.setting(QuantityKind.FIO2, 0.60, Facts.at(2, 40)));
+        ev.offer(f.setting(QuantityKind.PEEP, 8, Facts.at(2, 40)));
+        ev.offer(f.measured(QuantityKind.MEAN_AIRWAY_PRESSURE, 18, Facts.at(3, 0)));
+        ev.offer(f.measured(QuantityKind.PAO2, 75, Facts.at(3, 10)));
+        assertThat(ev.activeEpisodes()).extracting(Episode::ruleId).containsExactly("hypoxemia");
+
+        PatientFacts child = new PatientFacts(PATIENT.patientId(), Sex.MALE, LocalDate.parse("2016-07-01"));
+        PatientEvaluator.Batch b = ev.updatePatient(child);
+        assertThat(b.supersedesAfter()).isEqualTo(Instant.MIN);
+        assertThat(ev.activeEpisodes()).extracting(Episode::ruleId).containsExactly("pediatric-hypoxemia");
+    }
+
+    @Test
     void the_engine_refuses_evaluation_points_that_do_not_move_forward() {
         PatientTimeline t = new PatientTimeline(PATIENT.patientId());
         EngineState s = ENGINE.step(null, t, PATIENT, Facts.at(1, 0)).next();

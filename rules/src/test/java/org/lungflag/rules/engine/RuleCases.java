@@ -9,7 +9,6 @@ import java.time.Instant;
 import java.time.LocalDate;
 import java.time.ZoneOffset;
 import java.util.ArrayList;
-import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
@@ -236,16 +235,5 @@ record RuleCases(String rule, Path file, List<Case> cases) {
 
     private static ValueRole defaultRole(QuantityKind kind) {
         return kind == QuantityKind.FIO2 || kind == QuantityKind.PEEP ? ValueRole.SETTING : ValueRole.MEASUREMENT;
-    }
-
-    /** The fact kinds and outcomes the file exercises, for the completeness test. */
-    Map<String, Integer> outcomeCounts() {
-        Map<String, Integer> counts = new LinkedHashMap<>();
-        for (Case c : cases) {
-            for (Expectation e : c.expect()) {
-                counts.merge(e.outcome(), 1, Integer::sum);
-            }
-        }
-        return counts;
     }
 }

@@ -215,13 +215,17 @@ class FormulasTest {
 
     @Test
     void mechanicalPowerSurrogateOfTheWorkedExample() {
-        // clinical-reference T40 / ex. 6A: 0.098 × 0.42 × 20 × (32 − 8) = 19.757 J/min [PUB-2/MEM surrogate]
+        // clinical-reference T40 / ex. 6A: 0.098 × 0.42 × 20 × (32 − 8) = 19.757 J/min. The sheet tags the surrogate
+        // [PUB-2/MEM]; a search of stored copies found Chiumello 2020 naming "a comprehensive and a surrogate
+        // formula" but not its text, so its equality with the full equation (verified text, below) is proven
+        // instead by UnitEquivalencePropertyTest.theMechanicalPowerSurrogateEqualsTheFullEquationAtConstantFlow.
         assertThat(Formulas.mechanicalPowerSurrogate(0.42, 20, 32, 26, 10)).isCloseTo(19.757, within(0.001));
     }
 
     @Test
     void mechanicalPowerFullEquationOfTheWorkedExample() {
-        // Gattinoni 2016 full equation via clinical-reference T39 / ex. 6A [PUB-V]: constant flow 1 L/s, VT 0.42 L,
+        // Gattinoni 2016 full equation via clinical-reference T39 / ex. 6A [PUB-V; its text re-checked in a stored copy
+        // of Wu et al., J Clin Monit Comput 2022]: constant flow 1 L/s, VT 0.42 L,
         // RR 20 → Ti 0.42 s, Te 2.58 s; ELrs = 16/0.42; Raw = (32 − 26)/1 = 6 cmH2O/(L/s); MP = 19.757 J/min
         double ie = 0.42 / 2.58;
         double mp = Formulas.mechanicalPowerGattinoni(0.42, 20, 16 / 0.42, 6.0, ie, 10);

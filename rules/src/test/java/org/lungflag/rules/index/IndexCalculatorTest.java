@@ -521,6 +521,16 @@ class IndexCalculatorTest {
     }
 
     @Test
+    void inputsThatBypassedTheNormalizerGiveAReasonNotACrash() {
+        // an FiO2 of 0 never passes MeasurementNormalizer, but the calculator must not throw on it either
+        IndexSet set =
+                compute(Scenario.at().arterial(PAO2, 80).setting(FIO2, 0.0).setting(PEEP, 5));
+        NotEvaluable n = refusal(set, IndexCode.PF_RATIO);
+        assertThat(n.reason()).isEqualTo(DataQualityReason.OUT_OF_FORMULA_RANGE);
+        assertThat(n.detail()).contains("FiO2 0");
+    }
+
+    @Test
     void anEmptyTimelineGivesAReasonForEveryIndexAndNoNumber() {
         IndexSet set = compute(Scenario.at());
         List<IndexCode> codes = new ArrayList<>();

@@ -47,6 +47,8 @@ class UnitConverterTest {
             1     | mm[Hg]  | cm[H2O] | 1.35951 | 0.00001 | clinical-reference §9.1 (derived)
             1     | kPa     | cm[H2O] | 10.19716 | 0.00001 | clinical-reference §9.1 (derived)
             1     | hPa     | cm[H2O] | 1.019716 | 0.000001 | clinical-reference §9.1 (derived)
+            1     | mm[Hg]  | Pa     | 133.3220 | 0.00005 | clinical-reference §9.1: UCUM m[Hg] = 133.3220 kPa [CODE-V]
+            1     | cm[H2O] | Pa     | 98.0665 | 0.00005 | clinical-reference §9.1: UCUM m[H2O] = 9.80665 kPa [CODE-V]
             """)
     void pressureConversionsMatchTheReferenceSheet(
             double value, String from, String to, double expected, double tolerance, String source) {

@@ -1,6 +1,7 @@
 package org.lungflag.sandbox.fhirserver;
 
 import ca.uhn.fhir.batch2.jobs.config.Batch2JobsConfig;
+import ca.uhn.fhir.broker.api.IChannelNamer;
 import ca.uhn.fhir.context.FhirContext;
 import ca.uhn.fhir.context.support.IValidationSupport;
 import ca.uhn.fhir.jpa.api.IDaoRegistry;
@@ -21,6 +22,8 @@ import ca.uhn.fhir.jpa.search.DatabaseBackedPagingProvider;
 import ca.uhn.fhir.jpa.search.IStaleSearchDeletingSvc;
 import ca.uhn.fhir.jpa.search.StaleSearchDeletingSvcImpl;
 import ca.uhn.fhir.jpa.subscription.channel.config.SubscriptionChannelConfig;
+import ca.uhn.fhir.jpa.subscription.channel.impl.LinkedBlockingChannelFactory;
+import ca.uhn.fhir.jpa.subscription.channel.impl.RetryPolicyProvider;
 import ca.uhn.fhir.jpa.subscription.match.config.SubscriptionProcessorConfig;
 import ca.uhn.fhir.jpa.subscription.match.deliver.email.IEmailSender;
 import ca.uhn.fhir.jpa.subscription.submit.config.SubscriptionSubmitterConfig;
@@ -40,13 +43,14 @@ import org.springframework.beans.factory.config.ConfigurableListableBeanFactory;
 import org.springframework.context.annotation.Bean;
 import org.springframework.context.annotation.Configuration;
 import org.springframework.context.annotation.Import;
+import org.springframework.context.annotation.Primary;
 import org.springframework.orm.jpa.JpaTransactionManager;
 import org.springframework.orm.jpa.LocalContainerEntityManagerFactoryBean;
 
 /**
- * The beans HAPI's JPA server needs beyond its own configuration classes: storage and subscription settings, the H2
- * database, the entity manager and the REST servlet. Lives in its own plain Spring context (no Boot
- * auto-configuration), never in the advisory service's.
+ * The beans HAPI's JPA server needs beyond its own configuration classes: storage and subscription settings, the entity
+ * manager and the REST servlet. Lives in its own plain Spring context (no Boot auto-configuration), never in the
+ * advisory service's. {@link SandboxFhirServer} supplies the {@link SandboxOptions} and the H2 {@link DataSource}.
  */
 @Configuration
 @Import({
@@ -67,7 +71,8 @@ class FhirServerConfig {
         JpaStorageSettings settings = new JpaStorageSettings();
         // A search right after a write must see it: never answer from a cached earlier search.
         settings.setReuseCachedSearchResultsForMillis(null);
-        // Background jobs a sandbox never needs; each would otherwise run on a schedule.
+        // Background work a sandbox never needs: their scheduled jobs then return at once. (Without the legacy
+        // reindexing, a SearchParameter added later applies to resources written after it.)
         settings.setEnableTaskBulkImportJobExecution(false);
         settings.setEnableTaskBulkExportJobExecution(false);
         settings.setEnableTaskPreExpandValueSets(false);
@@ -99,6 +104,14 @@ class FhirServerConfig {
         // the registry's once-a-minute resync. With a 500 ms interval the queued path activates in under a second.
         settings.setSubscriptionChangeQueuedImmediately(false);
         return settings;
+    }
+
+    /** Replaces HAPI's own (the broker client takes the primary one) so that closing stops the channel threads. */
+    @Bean
+    @Primary
+    LinkedBlockingChannelFactory closingChannelFactory(
+            IChannelNamer channelNamer, RetryPolicyProvider retryPolicyProvider) {
+        return new ClosingChannelFactory(channelNamer, retryPolicyProvider);
     }
 
     @Bean
@@ -133,16 +146,6 @@ class FhirServerConfig {
     @Bean(name = "myResourceCountsCache")
     ResourceCountCache resourceCountsCache(IFhirSystemDao<?, ?> systemDao) {
         return ResourceCountCacheUtil.newResourceCountCache(systemDao);
-    }
-
-    @Bean(destroyMethod = "close")
-    H2Database h2Database(SandboxOptions options) {
-        return H2Database.open(options.dataDirectoryIfAny());
-    }
-
-    @Bean
-    DataSource dataSource(H2Database database) {
-        return database.dataSource();
     }
 
     @Bean

@@ -1,7 +1,6 @@
 package org.lungflag.sandbox.fhirserver;
 
 import java.io.IOException;
-import java.io.UncheckedIOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.sql.Connection;
@@ -45,9 +44,13 @@ final class H2Database implements AutoCloseable {
             try {
                 Files.createDirectories(directory);
             } catch (IOException e) {
-                throw new UncheckedIOException("Cannot create the sandbox data directory " + directory, e);
+                throw new IllegalStateException("Cannot create the sandbox data directory " + directory + ": " + e, e);
             }
-            database = new H2Database("jdbc:h2:file:" + directory.resolve(FILE_STEM), "file database in " + directory);
+            // No fhir.trace.db: at every start Hibernate's temporary-table DDL for HAPI's entities fails harmlessly
+            // (duplicate column names) and H2 would log each failure there.
+            database = new H2Database(
+                    "jdbc:h2:file:" + directory.resolve(FILE_STEM) + ";TRACE_LEVEL_FILE=0",
+                    "file database in " + directory);
         } else {
             String name = "lungflag-sandbox-" + IN_MEMORY_COUNTER.incrementAndGet();
             // Kept open until close() shuts it down, whatever the pool does with idle connections.
@@ -74,7 +77,7 @@ final class H2Database implements AutoCloseable {
             if (causeCode(e) == ErrorCode.DATABASE_ALREADY_OPEN_1) {
                 throw new IllegalStateException(
                         "The " + description
-                                + " is in use by another process; stop it or choose another --data directory",
+                                + " is in use by another process; stop that process or choose another data directory",
                         e);
             }
             throw new IllegalStateException("Cannot open the " + description + ": " + e.getMessage(), e);

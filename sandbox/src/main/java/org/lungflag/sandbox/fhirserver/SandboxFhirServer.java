@@ -3,11 +3,14 @@ package org.lungflag.sandbox.fhirserver;
 import ca.uhn.fhir.context.FhirContext;
 import ca.uhn.fhir.rest.server.RestfulServer;
 import jakarta.servlet.ServletRegistration;
+import java.io.IOException;
 import java.net.Inet6Address;
 import java.net.InetAddress;
+import java.net.ServerSocket;
 import java.time.Duration;
 import java.util.Objects;
 import java.util.concurrent.atomic.AtomicBoolean;
+import javax.sql.DataSource;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.boot.web.embedded.tomcat.TomcatServletWebServerFactory;
@@ -43,6 +46,7 @@ public final class SandboxFhirServer implements AutoCloseable {
     private static RuntimeException sharedFailure;
 
     private final SandboxOptions options;
+    private final H2Database database;
     private final AnnotationConfigApplicationContext context;
     private final WebServer webServer;
     private final String baseUrl;
@@ -52,11 +56,13 @@ public final class SandboxFhirServer implements AutoCloseable {
 
     private SandboxFhirServer(
             SandboxOptions options,
+            H2Database database,
             AnnotationConfigApplicationContext context,
             WebServer webServer,
             Duration startupTime,
             boolean shared) {
         this.options = options;
+        this.database = database;
         this.context = context;
         this.webServer = webServer;
         this.baseUrl = "http://" + hostForUrl(options.bindAddress()) + ":" + webServer.getPort() + FHIR_PATH;
@@ -105,32 +111,61 @@ public final class SandboxFhirServer implements AutoCloseable {
     private static SandboxFhirServer start(SandboxOptions options, boolean shared) {
         Objects.requireNonNull(options, "options");
         long startedAt = System.nanoTime();
+        checkPortFree(options);
+        // Opened here, not in the context, so that "data directory in use" reaches the caller as it is.
+        H2Database database = H2Database.open(options.dataDirectoryIfAny());
         AnnotationConfigApplicationContext context = new AnnotationConfigApplicationContext();
         // HAPI's configuration classes refer to each other in cycles.
         context.setAllowCircularReferences(true);
         context.registerBean(SandboxOptions.class, () -> options);
+        // The database outlives the context (it is shut down after HAPI has stopped), so the context must not close
+        // the pool: an empty destroy method name stops Spring from inferring close().
+        context.registerBean(DataSource.class, database::dataSource, bean -> bean.setDestroyMethodName(""));
         context.register(FhirServerConfig.class);
-        try {
-            context.refresh();
-        } catch (RuntimeException e) {
-            context.close();
-            throw new IllegalStateException("The sandbox FHIR server failed to start: " + rootMessage(e), e);
-        }
         WebServer webServer;
         try {
+            refresh(context);
             webServer = startWebServer(options, context.getBean(RestfulServer.class));
         } catch (RuntimeException e) {
             context.close();
+            database.close();
             throw e;
         }
         Duration startupTime = Duration.ofNanos(System.nanoTime() - startedAt);
-        SandboxFhirServer server = new SandboxFhirServer(options, context, webServer, startupTime, shared);
+        SandboxFhirServer server = new SandboxFhirServer(options, database, context, webServer, startupTime, shared);
         log.info(
                 "Sandbox FHIR server ready at {} in {} ms ({})",
                 server.baseUrl,
                 startupTime.toMillis(),
-                context.getBean(H2Database.class).description());
+                database.description());
         return server;
+    }
+
+    private static void refresh(AnnotationConfigApplicationContext context) {
+        try {
+            context.refresh();
+        } catch (RuntimeException e) {
+            throw new IllegalStateException("The sandbox FHIR server failed to start: " + rootMessage(e), e);
+        }
+    }
+
+    /** Says "port in use" before HAPI's half-minute start rather than after it; Tomcat's own bind still decides. */
+    private static void checkPortFree(SandboxOptions options) {
+        if (options.port() == 0) {
+            return;
+        }
+        try (ServerSocket probe = new ServerSocket(options.port(), 1, options.bindAddress())) {
+            // free now; closed again at once
+        } catch (IOException e) {
+            throw portInUse(options.port(), options, e);
+        }
+    }
+
+    private static IllegalStateException portInUse(int port, SandboxOptions options, Exception cause) {
+        return new IllegalStateException(
+                "Port " + port + " on " + options.bindAddress().getHostAddress()
+                        + " is in use; choose another port (0 picks a free one)",
+                cause);
     }
 
     private static WebServer startWebServer(SandboxOptions options, RestfulServer servlet) {
@@ -146,10 +181,7 @@ public final class SandboxFhirServer implements AutoCloseable {
             webServer.start();
         } catch (PortInUseException e) {
             webServer.destroy();
-            throw new IllegalStateException(
-                    "Port " + e.getPort() + " on " + options.bindAddress().getHostAddress()
-                            + " is in use; choose another port (0 picks a free one)",
-                    e);
+            throw portInUse(e.getPort(), options, e);
         }
         return webServer;
     }
@@ -200,7 +232,11 @@ public final class SandboxFhirServer implements AutoCloseable {
             // stop() only detaches the connector; destroy() also ends Tomcat's non-daemon threads.
             webServer.destroy();
         } finally {
-            context.close();
+            try {
+                context.close();
+            } finally {
+                database.close();
+            }
         }
     }
 

@@ -6,7 +6,9 @@ import java.io.UncheckedIOException;
 import java.net.InetAddress;
 import java.net.InetSocketAddress;
 import java.nio.charset.StandardCharsets;
+import java.util.HashMap;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import java.util.concurrent.CopyOnWriteArrayList;
 
@@ -20,7 +22,7 @@ final class HookReceiver implements AutoCloseable {
     record Delivery(String method, String path, Map<String, List<String>> headers, String body, long receivedAtNanos) {
 
         String header(String name) {
-            List<String> values = headers.get(name.toLowerCase(java.util.Locale.ROOT));
+            List<String> values = headers.get(name.toLowerCase(Locale.ROOT));
             return values == null || values.isEmpty() ? null : values.get(0);
         }
     }
@@ -43,10 +45,9 @@ final class HookReceiver implements AutoCloseable {
         server.createContext("/", exchange -> {
             long receivedAt = System.nanoTime();
             String body = new String(exchange.getRequestBody().readAllBytes(), StandardCharsets.UTF_8);
-            Map<String, List<String>> headers = new java.util.HashMap<>();
+            Map<String, List<String>> headers = new HashMap<>();
             exchange.getRequestHeaders()
-                    .forEach((name, values) ->
-                            headers.put(name.toLowerCase(java.util.Locale.ROOT), List.copyOf(values)));
+                    .forEach((name, values) -> headers.put(name.toLowerCase(Locale.ROOT), List.copyOf(values)));
             receiver.deliveries.add(new Delivery(
                     exchange.getRequestMethod(),
                     exchange.getRequestURI().getPath(),

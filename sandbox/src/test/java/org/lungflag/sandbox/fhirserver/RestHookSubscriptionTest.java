@@ -6,6 +6,7 @@ import static org.lungflag.sandbox.fhirserver.TestResources.LOINC;
 import static org.lungflag.sandbox.fhirserver.TestResources.PACO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.PAO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.bloodGas;
+import static org.lungflag.sandbox.fhirserver.TestResources.create;
 import static org.lungflag.sandbox.fhirserver.TestResources.newPatient;
 
 import ca.uhn.fhir.rest.client.api.IGenericClient;
@@ -68,11 +69,11 @@ class RestHookSubscriptionTest {
     void matchingObservationArrivesAsPutWithTheResourceAndTheChannelHeader() {
         HookReceiver receiver = newReceiver();
         awaitActive(createSubscription(receiver));
-        String patient = createPatient();
-        String nonMatching = createObservation(patient, PACO2, 47.0);
+        String patient = create(client, newPatient());
+        String nonMatching = create(client, bloodGas(patient, PACO2, 47.0));
 
         long createdAt = System.nanoTime();
-        String matching = createObservation(patient, PAO2, 58.0);
+        String matching = create(client, bloodGas(patient, PAO2, 58.0));
 
         HookReceiver.Delivery delivery = await().atMost(Duration.ofSeconds(5))
                 .until(() -> deliveryFor(receiver, matching), Optional::isPresent)
@@ -104,7 +105,7 @@ class RestHookSubscriptionTest {
         IdType toDelete = createSubscription(removed);
         awaitActive(toDelete);
         awaitActive(createSubscription(kept));
-        String patient = createPatient();
+        String patient = create(client, newPatient());
 
         long deletedAt = System.nanoTime();
         client.delete().resourceById(toDelete).execute();
@@ -113,7 +114,7 @@ class RestHookSubscriptionTest {
         // Probe until an Observation reaches the kept Subscription and not the deleted one: the delete has then been
         // through the matcher. While it is still registered, every probe reaches both.
         await().atMost(Duration.ofSeconds(20))
-                .until(() -> arrivesOnlyAt(kept, removed, createObservation(patient, PAO2, 75.0)));
+                .until(() -> arrivesOnlyAt(kept, removed, create(client, bloodGas(patient, PAO2, 75.0))));
 
         System.out.printf(
                 "Deleted Subscription %s stopped delivering within %d ms%n",
@@ -144,15 +145,6 @@ class RestHookSubscriptionTest {
         await().atMost(Duration.ofSeconds(10)).until(() -> statusOf(subscription) == SubscriptionStatus.ACTIVE);
     }
 
-    private static String createPatient() {
-        return client.create()
-                .resource(newPatient())
-                .execute()
-                .getId()
-                .toUnqualifiedVersionless()
-                .getValue();
-    }
-
     private IdType createSubscription(HookReceiver receiver) {
         Subscription subscription = new Subscription();
         subscription.setStatus(SubscriptionStatus.REQUESTED);
@@ -176,15 +168,6 @@ class RestHookSubscriptionTest {
                 .withId(subscription.getIdPart())
                 .execute()
                 .getStatus();
-    }
-
-    private static String createObservation(String patient, String loincCode, double mmHg) {
-        return client.create()
-                .resource(bloodGas(patient, loincCode, mmHg))
-                .execute()
-                .getId()
-                .toUnqualifiedVersionless()
-                .getValue();
     }
 
     private static Optional<HookReceiver.Delivery> deliveryFor(HookReceiver receiver, String observationId) {

@@ -1,15 +1,19 @@
 package org.lungflag.sandbox.fhirserver;
 
 import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import static org.lungflag.sandbox.fhirserver.TestResources.LOINC;
 import static org.lungflag.sandbox.fhirserver.TestResources.PACO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.PAO2;
 import static org.lungflag.sandbox.fhirserver.TestResources.bloodGas;
+import static org.lungflag.sandbox.fhirserver.TestResources.create;
 import static org.lungflag.sandbox.fhirserver.TestResources.newPatient;
 
 import ca.uhn.fhir.rest.api.MethodOutcome;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import ca.uhn.fhir.rest.gclient.TokenClientParam;
+import ca.uhn.fhir.rest.server.exceptions.InvalidRequestException;
+import java.util.Date;
 import java.util.List;
 import java.util.UUID;
 import org.hl7.fhir.instance.model.api.IBaseResource;
@@ -84,12 +88,21 @@ class SandboxFhirServerTest {
     }
 
     @Test
+    void observationOfAPatientTheServerDoesNotHoldIsRefused() {
+        Observation orphan = bloodGas("Patient/" + UUID.randomUUID(), PAO2, 68.0);
+
+        assertThatThrownBy(() -> client.create().resource(orphan).execute())
+                .isInstanceOf(InvalidRequestException.class)
+                .hasMessageContaining("not found, specified in path: Observation.subject");
+    }
+
+    @Test
     void searchSelectsObservationsByPatientAndCode() {
-        String patientA = createPatient();
-        String patientB = createPatient();
-        String aPaO2 = createObservation(patientA, PAO2, 61.0);
-        createObservation(patientA, PACO2, 44.0);
-        createObservation(patientB, PAO2, 90.0);
+        String patientA = create(client, newPatient());
+        String patientB = create(client, newPatient());
+        String aPaO2 = create(client, bloodGas(patientA, PAO2, 61.0));
+        create(client, bloodGas(patientA, PACO2, 44.0));
+        create(client, bloodGas(patientB, PAO2, 90.0));
 
         List<String> found = searchObservations("patient=" + patientA + "&code=" + LOINC + "|" + PAO2);
 
@@ -98,8 +111,8 @@ class SandboxFhirServerTest {
 
     @Test
     void searchByLastUpdatedReturnsOnlyWhatChangedAfterTheWatermark() {
-        String patient = createPatient();
-        String first = createObservation(patient, PAO2, 70.0);
+        String patient = create(client, newPatient());
+        String first = create(client, bloodGas(patient, PAO2, 70.0));
         String watermark = client.read()
                 .resource(Observation.class)
                 .withId(new IdType(first).getIdPart())
@@ -107,8 +120,8 @@ class SandboxFhirServerTest {
                 .getMeta()
                 .getLastUpdatedElement()
                 .getValueAsString();
-        String second = createObservation(patient, PAO2, 72.0);
-        String third = createObservation(patient, PACO2, 41.0);
+        String second = create(client, bloodGas(patient, PAO2, 72.0));
+        String third = create(client, bloodGas(patient, PACO2, 41.0));
 
         List<String> after = searchObservations("patient=" + patient + "&_lastUpdated=gt" + watermark);
         List<String> fromWatermark = searchObservations("patient=" + patient + "&_lastUpdated=ge" + watermark);
@@ -119,13 +132,8 @@ class SandboxFhirServerTest {
 
     @Test
     void conditionalCreateInTransactionCreatesOnceThenReturnsTheExistingFlag() {
-        String patient = createPatient();
-        String device = client.create()
-                .resource(new Device().setStatus(Device.FHIRDeviceStatus.ACTIVE))
-                .execute()
-                .getId()
-                .toUnqualifiedVersionless()
-                .getValue();
+        String patient = create(client, newPatient());
+        String device = create(client, new Device().setStatus(Device.FHIRDeviceStatus.ACTIVE));
         String episodeKey = UUID.randomUUID().toString();
 
         Bundle first = client.transaction()
@@ -164,7 +172,7 @@ class SandboxFhirServerTest {
         flag.setSubject(new Reference(patient));
         Provenance provenance = new Provenance();
         provenance.addTarget(new Reference(flagUrn));
-        provenance.setRecorded(new java.util.Date());
+        provenance.setRecorded(new Date());
         provenance.addAgent().setWho(new Reference(device));
 
         Bundle bundle = new Bundle().setType(BundleType.TRANSACTION);
@@ -190,24 +198,6 @@ class SandboxFhirServerTest {
                 .withUrl(provenanceEntry.getResponse().getLocation())
                 .execute();
         return new IdType(stored.getTargetFirstRep().getReference())
-                .toUnqualifiedVersionless()
-                .getValue();
-    }
-
-    private static String createPatient() {
-        return client.create()
-                .resource(newPatient())
-                .execute()
-                .getId()
-                .toUnqualifiedVersionless()
-                .getValue();
-    }
-
-    private static String createObservation(String patientId, String loincCode, double mmHg) {
-        return client.create()
-                .resource(bloodGas(patientId, loincCode, mmHg))
-                .execute()
-                .getId()
                 .toUnqualifiedVersionless()
                 .getValue();
     }

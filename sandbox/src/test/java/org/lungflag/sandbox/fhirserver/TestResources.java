@@ -1,7 +1,11 @@
 package org.lungflag.sandbox.fhirserver;
 
+import ca.uhn.fhir.rest.client.api.IGenericClient;
 import java.util.Date;
 import java.util.UUID;
+import org.hl7.fhir.instance.model.api.IBaseResource;
+import org.hl7.fhir.r4.model.DateTimeType;
+import org.hl7.fhir.r4.model.Enumerations.AdministrativeGender;
 import org.hl7.fhir.r4.model.Observation;
 import org.hl7.fhir.r4.model.Patient;
 import org.hl7.fhir.r4.model.Quantity;
@@ -24,12 +28,22 @@ final class TestResources {
 
     private TestResources() {}
 
+    /** Creates {@code resource} on the server and returns its id without a version, e.g. {@code Patient/1001}. */
+    static String create(IGenericClient client, IBaseResource resource) {
+        return client.create()
+                .resource(resource)
+                .execute()
+                .getId()
+                .toUnqualifiedVersionless()
+                .getValue();
+    }
+
     static Patient newPatient() {
         Patient patient = new Patient();
         patient.addIdentifier()
                 .setSystem(TEST_PATIENT_SYSTEM)
                 .setValue(UUID.randomUUID().toString());
-        patient.setGender(org.hl7.fhir.r4.model.Enumerations.AdministrativeGender.FEMALE);
+        patient.setGender(AdministrativeGender.FEMALE);
         return patient;
     }
 
@@ -39,7 +53,7 @@ final class TestResources {
         observation.setStatus(Observation.ObservationStatus.FINAL);
         observation.getCode().addCoding().setSystem(LOINC).setCode(loincCode);
         observation.setSubject(new Reference(patientId));
-        observation.setEffective(new org.hl7.fhir.r4.model.DateTimeType(new Date()));
+        observation.setEffective(new DateTimeType(new Date()));
         observation.setValue(
                 new Quantity().setValue(mmHg).setUnit("mmHg").setSystem(UCUM).setCode("mm[Hg]"));
         return observation;
