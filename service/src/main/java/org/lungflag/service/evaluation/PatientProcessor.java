@@ -21,6 +21,7 @@ import org.lungflag.fhir.profiles.LungflagFhir;
 import org.lungflag.rules.catalog.RuleCatalog;
 import org.lungflag.rules.catalog.RuleDefinition;
 import org.lungflag.rules.engine.Episode;
+import org.lungflag.rules.engine.EpisodeStatus;
 import org.lungflag.rules.engine.PatientEvaluator;
 import org.lungflag.rules.engine.PatientEvaluator.Batch;
 import org.lungflag.rules.engine.RuleEngine;
@@ -330,7 +331,7 @@ public class PatientProcessor {
         RuleDefinition rule = rule(episode.ruleId());
         EvaluationMode mode = modes.mode(rule.id());
         Flag flag;
-        if (episode.isActive()) {
+        if (episode.status() == EpisodeStatus.ACTIVE) {
             flag = AdvisoryResources.activeFlag(episode, e, rule, modeCode(mode), List.of());
         } else {
             Flag lastFlag = lastActive != null
@@ -358,7 +359,7 @@ public class PatientProcessor {
                 status,
                 episode.start(),
                 episode.end(),
-                episode.isActive() ? null : status,
+                episode.status() == EpisodeStatus.ACTIVE ? null : status,
                 mode,
                 encode(flag));
         counts.flagWrites++;

@@ -14,6 +14,7 @@ import org.hl7.fhir.r4.model.Reference;
 import org.lungflag.rules.catalog.RuleCatalog;
 import org.lungflag.rules.catalog.RuleDefinition;
 import org.lungflag.rules.engine.Episode;
+import org.lungflag.rules.engine.EpisodeStatus;
 import org.lungflag.rules.engine.PatientEvaluator;
 import org.lungflag.rules.engine.PatientEvaluator.Batch;
 import org.lungflag.rules.engine.RuleEngine;
@@ -111,7 +112,10 @@ public final class OfflineEvaluation {
                 continue;
             }
             Flag active = AdvisoryResources.activeFlag(episode, lastActive, rule, mode, List.of());
-            flags.add(episode.isActive() ? active : AdvisoryResources.closedFlag(active, episode, last));
+            flags.add(
+                    episode.status() == EpisodeStatus.ACTIVE
+                            ? active
+                            : AdvisoryResources.closedFlag(active, episode, last));
         }
         return flags;
     }
