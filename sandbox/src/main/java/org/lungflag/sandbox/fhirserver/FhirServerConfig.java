@@ -80,8 +80,20 @@ class FhirServerConfig {
         return settings;
     }
 
+    /**
+     * Keep the versions of references as written (HAPI strips them by default when it stores a resource): Lungflag
+     * writes Provenance and Flags that point at the exact Observation versions they were derived from. A site's
+     * FHIR server needs the same (design invariant 5).
+     */
+    @Bean
+    Object keepVersionedReferences(FhirContext fhirContext) {
+        fhirContext.getParserOptions().setStripVersionsFromReferences(false);
+        return new Object();
+    }
+
     @Bean
     SubscriptionSettings subscriptionSettings(SandboxOptions options) {
+
         SubscriptionSettings settings = new SubscriptionSettings();
         // Without a supported type every Subscription stays "requested".
         settings.addSupportedSubscriptionType(SubscriptionChannelType.RESTHOOK);

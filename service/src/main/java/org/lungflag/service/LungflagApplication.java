@@ -1,0 +1,29 @@
+package org.lungflag.service;
+
+import org.springframework.boot.SpringApplication;
+import org.springframework.boot.autoconfigure.SpringBootApplication;
+import org.springframework.boot.context.properties.ConfigurationPropertiesScan;
+import org.springframework.scheduling.annotation.EnableScheduling;
+
+/**
+ * The Lungflag service. {@code java -jar lungflag-service.jar} runs the live service; {@code java -jar
+ * lungflag-service.jar replay ...} runs the offline replay with the same pipeline.
+ */
+@SpringBootApplication(
+        excludeName = {
+            // The service talks to its audit store with plain JDBC; HAPI's JPA classes may be on a test classpath.
+            "org.springframework.boot.autoconfigure.orm.jpa.HibernateJpaAutoConfiguration",
+            "org.springframework.boot.autoconfigure.data.jpa.JpaRepositoriesAutoConfiguration",
+            "org.springframework.boot.autoconfigure.quartz.QuartzAutoConfiguration",
+            "org.springframework.boot.autoconfigure.batch.BatchAutoConfiguration",
+            "org.springframework.boot.autoconfigure.elasticsearch.ElasticsearchClientAutoConfiguration",
+            "org.springframework.boot.autoconfigure.elasticsearch.ElasticsearchRestClientAutoConfiguration"
+        })
+@ConfigurationPropertiesScan
+@EnableScheduling
+public class LungflagApplication {
+
+    public static void main(String[] args) {
+        SpringApplication.run(LungflagApplication.class, args);
+    }
+}

@@ -1,0 +1,91 @@
+package org.lungflag.service.audit;
+
+import java.sql.Timestamp;
+import java.time.Instant;
+import org.springframework.jdbc.core.simple.JdbcClient;
+import org.springframework.stereotype.Repository;
+
+/** Every resource version that reached normalization (id, version, hash, clinical time) and its outcome. */
+@Repository
+public class ReceivedResourceRepository {
+
+    /** What became of a received resource version. */
+    public enum Outcome {
+        USED,
+        DUPLICATE,
+        REPLACED_OLDER,
+        QUARANTINED,
+        PARTLY_QUARANTINED,
+        RETRACTED,
+        OUTSIDE_WINDOW
+    }
+
+    private final JdbcClient jdbc;
+
+    ReceivedResourceRepository(JdbcClient jdbc) {
+        this.jdbc = jdbc;
+    }
+
+    public void add(
+            String resourceType,
+            String resourceId,
+            String versionId,
+            String bodySha256,
+            String patientId,
+            Instant clinicalTime,
+            String channel,
+            Instant receivedAt,
+            Outcome outcome) {
+        jdbc.sql("""
+                        INSERT INTO received_resource (resource_type, resource_id, version_id, body_sha256, patient_id,
+                                                       clinical_time, channel, received_at, outcome)
+                        VALUES (:type, :id, :version, :sha, :patient, :time, :channel, :received, :outcome)
+                        """)
+                .param("type", resourceType)
+                .param("id", resourceId)
+                .param("version", versionId)
+                .param("sha", bodySha256)
+                .param("patient", patientId)
+                .param("time", clinicalTime == null ? null : Timestamp.from(clinicalTime))
+                .param("channel", channel)
+                .param("received", Timestamp.from(receivedAt))
+                .param("outcome", outcome.name())
+                .update();
+    }
+
+    /** Whether this exact version was already processed (whatever the outcome). */
+    public boolean seen(String resourceType, String resourceId, String versionId) {
+        if (versionId == null) {
+            return false;
+        }
+        return jdbc.sql("""
+                        SELECT COUNT(*) FROM received_resource
+                         WHERE resource_type = :type AND resource_id = :id AND version_id = :version
+                        """)
+                        .param("type", resourceType)
+                        .param("id", resourceId)
+                        .param("version", versionId)
+                        .query(Long.class)
+                        .single()
+                > 0;
+    }
+
+    /** The patient a resource belonged to, from its latest processed version. */
+    public java.util.Optional<String> patientOf(String resourceType, String resourceId) {
+        return jdbc.sql("""
+                        SELECT patient_id FROM received_resource
+                         WHERE resource_type = :type AND resource_id = :id AND patient_id IS NOT NULL
+                         ORDER BY id DESC FETCH FIRST 1 ROWS ONLY
+                        """)
+                .param("type", resourceType)
+                .param("id", resourceId)
+                .query(String.class)
+                .optional();
+    }
+
+    public long count() {
+        return jdbc.sql("SELECT COUNT(*) FROM received_resource")
+                .query(Long.class)
+                .single();
+    }
+}

@@ -1,0 +1,401 @@
+package org.lungflag.service.evaluation;
+
+import ca.uhn.fhir.context.FhirContext;
+import ca.uhn.fhir.parser.DataFormatException;
+import ca.uhn.fhir.rest.client.api.IGenericClient;
+import ca.uhn.fhir.rest.server.exceptions.ResourceGoneException;
+import ca.uhn.fhir.rest.server.exceptions.ResourceNotFoundException;
+import java.time.Clock;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Date;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.concurrent.ConcurrentHashMap;
+import org.hl7.fhir.instance.model.api.IBaseResource;
+import org.hl7.fhir.r4.model.Bundle;
+import org.hl7.fhir.r4.model.Observation;
+import org.lungflag.rules.measure.SourceRef;
+import org.lungflag.rules.patient.PatientFacts;
+import org.lungflag.rules.quality.DataQualityReason;
+import org.lungflag.service.audit.QuarantineRepository;
+import org.lungflag.service.audit.QuarantineRepository.Refusal;
+import org.lungflag.service.audit.QuarantineStage;
+import org.lungflag.service.audit.ReceivedResourceRepository;
+import org.lungflag.service.intake.InboxItem;
+import org.lungflag.service.intake.InboxRepository;
+import org.lungflag.service.intake.InboxSignal;
+import org.lungflag.service.normalize.CodeMap;
+import org.lungflag.service.normalize.FhirSpecimenLookup;
+import org.lungflag.service.normalize.NormalizedResource;
+import org.lungflag.service.normalize.Normalizer;
+import org.lungflag.service.normalize.SpecimenLookup;
+import org.lungflag.service.normalize.SpecimenLookup.SpecimenUnavailable;
+import org.lungflag.service.patient.PatientDirectory;
+import org.lungflag.service.patient.PatientDirectory.PatientUnavailable;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+import org.springframework.beans.factory.annotation.Value;
+import org.springframework.boot.context.event.ApplicationReadyEvent;
+import org.springframework.context.SmartLifecycle;
+import org.springframework.context.event.EventListener;
+import org.springframework.stereotype.Component;
+import org.springframework.transaction.support.TransactionTemplate;
+
+/**
+ * Drains the inbox on its own thread, never on a delivery thread: parse, normalize (the same path as replay),
+ * group by patient, load the patient's facts (and, at first sight, their recent Observations from the FHIR
+ * server), then hand each patient's work to the {@link PatientProcessor}. Anything that cannot be done now (the
+ * FHIR server is down while a Specimen or Patient must be read) is put back and retried; anything unusable is
+ * quarantined. A failure on one patient never stops the others.
+ */
+@Component
+public class InboxProcessor implements SmartLifecycle {
+
+    private static final Logger log = LoggerFactory.getLogger(InboxProcessor.class);
+
+    private final InboxRepository inbox;
+    private final InboxSignal signal;
+    private final Normalizer normalizer;
+    private final PatientDirectory patients;
+    private final PatientProcessor processor;
+    private final QuarantineRepository quarantine;
+    private final ReceivedResourceRepository received;
+    private final IGenericClient client;
+    private final FhirContext fhir;
+    private final CodeMap codes;
+    private final EvaluationProperties properties;
+    private final TransactionTemplate tx;
+    private final Clock clock;
+    private final SpecimenLookup specimens;
+    private final String owner;
+    private final Duration pollInterval;
+    private final Set<String> hydrated = ConcurrentHashMap.newKeySet();
+    private final Duration retryDelay = Duration.ofSeconds(5);
+
+    private final boolean enabled;
+    private volatile boolean running;
+    private volatile boolean ready;
+    private Thread thread;
+
+    InboxProcessor(
+            InboxRepository inbox,
+            InboxSignal signal,
+            Normalizer normalizer,
+            PatientDirectory patients,
+            PatientProcessor processor,
+            QuarantineRepository quarantine,
+            ReceivedResourceRepository received,
+            IGenericClient client,
+            FhirContext fhir,
+            CodeMap codes,
+            EvaluationProperties properties,
+            TransactionTemplate tx,
+            Clock clock,
+            @Value("${lungflag.evaluation.poll-interval:500ms}") Duration pollInterval,
+            @Value("${lungflag.evaluation.processor-enabled:true}") boolean enabled) {
+        this.inbox = inbox;
+        this.signal = signal;
+        this.normalizer = normalizer;
+        this.patients = patients;
+        this.processor = processor;
+        this.quarantine = quarantine;
+        this.received = received;
+        this.client = client;
+        this.fhir = fhir;
+        this.codes = codes;
+        this.properties = properties;
+        this.tx = tx;
+        this.clock = clock;
+        this.specimens = new FhirSpecimenLookup(client);
+        this.owner =
+                "lungflag-" + ProcessHandle.current().pid() + "-" + Integer.toHexString(System.identityHashCode(this));
+        this.pollInterval = pollInterval;
+        this.enabled = enabled;
+    }
+
+    /** Off for an instance that should only serve the console and API (or in tests that drive it by hand). */
+    @Override
+    public boolean isAutoStartup() {
+        return enabled;
+    }
+
+    @EventListener(ApplicationReadyEvent.class)
+    void onReady() {
+        ready = true;
+        signal.recorded();
+    }
+
+    @Override
+    public void start() {
+        running = true;
+        thread = new Thread(this::loop, "lungflag-inbox");
+        thread.setDaemon(true);
+        thread.start();
+    }
+
+    @Override
+    public void stop() {
+        running = false;
+        if (thread != null) {
+            thread.interrupt();
+            try {
+                thread.join(10_000);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
+        }
+    }
+
+    @Override
+    public boolean isRunning() {
+        return running;
+    }
+
+    private void loop() {
+        while (running) {
+            try {
+                if (!ready || drainOnce() == 0) {
+                    signal.await(pollInterval);
+                }
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+                return;
+            } catch (RuntimeException e) {
+                log.error("inbox round failed ({}); retrying", e.getClass().getSimpleName(), e);
+                try {
+                    Thread.sleep(pollInterval.toMillis());
+                } catch (InterruptedException ie) {
+                    Thread.currentThread().interrupt();
+                    return;
+                }
+            }
+        }
+    }
+
+    /** Processes one batch of inbox rows. Returns how many rows were claimed. */
+    public int drainOnce() {
+        List<InboxItem> items = inbox.claim(owner, properties.batchSize(), Duration.ofMinutes(2));
+        if (items.isEmpty()) {
+            return 0;
+        }
+        Instant now = clock.instant();
+        Map<String, List<Work>> byPatient = new LinkedHashMap<>();
+        List<Long> retry = new ArrayList<>();
+        for (InboxItem item : items) {
+            try {
+                NormalizedResource r = normalize(item, now);
+                if (r == null) {
+                    continue; // already handled (quarantined without a patient)
+                }
+                byPatient
+                        .computeIfAbsent(r.patientId(), p -> new ArrayList<>())
+                        .add(new Work(item.id(), r, item.channel().name(), item.bodySha256(), item.receivedAt()));
+            } catch (SpecimenUnavailable | RuntimeException e) {
+                log.warn(
+                        "{} could not be normalized now ({}); it will be retried",
+                        item.reference(),
+                        e.getClass().getSimpleName());
+                retry.add(item.id());
+            }
+        }
+        for (Map.Entry<String, List<Work>> e : byPatient.entrySet()) {
+            String patientId = e.getKey();
+            try {
+                PatientFacts facts = patients.facts(patientId);
+                List<Work> work = new ArrayList<>();
+                boolean hydratedNow = true;
+                try {
+                    work.addAll(hydrate(patientId, now));
+                } catch (HydrationDeferred deferred) {
+                    hydratedNow = false;
+                }
+                work.addAll(e.getValue());
+                processor.apply(patientId, facts, work);
+                if (hydratedNow) {
+                    hydrated.add(patientId);
+                }
+            } catch (PatientUnavailable | RuntimeException ex) {
+                log.warn(
+                        "Patient/{}: {} resources not processed now ({}); they will be retried",
+                        patientId,
+                        e.getValue().size(),
+                        ex.getClass().getSimpleName());
+                log.debug("Patient/{}: processing failed", patientId, ex);
+                e.getValue().forEach(w -> retry.add(w.inboxId()));
+            }
+        }
+        inbox.release(retry, retryDelay);
+        return items.size();
+    }
+
+    /** Parses and normalizes one inbox row; rows with nothing to apply to a patient are finished here. */
+    private NormalizedResource normalize(InboxItem item, Instant now) throws SpecimenUnavailable {
+        Observation obs;
+        if (item.body() == null) {
+            try {
+                obs = client.read()
+                        .resource(Observation.class)
+                        .withId(item.resourceId())
+                        .execute();
+            } catch (ResourceNotFoundException | ResourceGoneException gone) {
+                return new NormalizedResource(
+                        SourceRef.observation(item.resourceId(), item.versionId()),
+                        patientOfRetracted(item),
+                        List.of(),
+                        List.of(),
+                        true);
+            }
+        } else {
+            IBaseResource parsed;
+            try {
+                parsed = fhir.newJsonParser().parseResource(item.body());
+            } catch (DataFormatException e) {
+                finishWithoutPatient(
+                        item,
+                        DataQualityReason.MALFORMED_RESOURCE,
+                        item.reference() + " could not be parsed: " + e.getMessage(),
+                        null);
+                return null;
+            }
+            if (!(parsed instanceof Observation o)) {
+                finishWithoutPatient(
+                        item,
+                        DataQualityReason.UNSUPPORTED_RESOURCE_TYPE,
+                        item.reference() + " is a " + parsed.fhirType() + ", not an Observation",
+                        null);
+                return null;
+            }
+            obs = o;
+        }
+        NormalizedResource r = normalizer.normalize(obs, now, specimens);
+        if (r.retracted() && r.patientId() == null) {
+            r = new NormalizedResource(r.source(), patientOfRetracted(item), List.of(), List.of(), true);
+        }
+        if (r.patientId() == null) {
+            NormalizedResource.Refusal first = r.refusals().isEmpty()
+                    ? new NormalizedResource.Refusal(
+                            null, DataQualityReason.MISSING_SUBJECT, item.reference() + " has no patient")
+                    : r.refusals().get(0);
+            finishWithoutPatient(item, first.reason(), first.detail(), r.source());
+            return null;
+        }
+        return r;
+    }
+
+    /** The patient a retracted resource belonged to, from the stored facts. */
+    private String patientOfRetracted(InboxItem item) {
+        return received.patientOf("Observation", item.resourceId()).orElse(null);
+    }
+
+    private void finishWithoutPatient(InboxItem item, DataQualityReason reason, String detail, SourceRef source) {
+        tx.executeWithoutResult(s -> {
+            quarantine.add(new Refusal(
+                    QuarantineStage.NORMALIZATION,
+                    item.resourceType(),
+                    item.resourceId(),
+                    source != null ? source.version() : item.versionId(),
+                    null,
+                    reason,
+                    detail,
+                    null,
+                    item.bodySha256(),
+                    null));
+            received.add(
+                    item.resourceType(),
+                    item.resourceId(),
+                    source != null ? source.version() : item.versionId(),
+                    item.bodySha256(),
+                    null,
+                    null,
+                    item.channel().name(),
+                    item.receivedAt(),
+                    ReceivedResourceRepository.Outcome.QUARANTINED);
+            inbox.markDone(List.of(item.id()));
+        });
+    }
+
+    /**
+     * At a patient's first sight in this process, their relevant Observations of the timeline window are read from
+     * the FHIR server with one search, so a service that starts late or restarts loses nothing. Versions already
+     * processed are skipped.
+     */
+    private List<Work> hydrate(String patientId, Instant now) {
+        if (!properties.hydrate() || hydrated.contains(patientId)) {
+            return List.of();
+        }
+        List<Work> work = new ArrayList<>();
+        try {
+            hydrateInto(patientId, now, work);
+        } catch (RuntimeException e) {
+            // go on without it; the next batch for this patient tries again, and late data re-evaluates
+            log.warn(
+                    "Patient/{}: could not load recent Observations from the FHIR server ({}); retrying later",
+                    patientId,
+                    e.getClass().getSimpleName());
+            throw new HydrationDeferred();
+        }
+        if (!work.isEmpty()) {
+            log.info("Patient/{}: hydrated {} Observation versions from the FHIR server", patientId, work.size());
+        }
+        return work;
+    }
+
+    private static final class HydrationDeferred extends RuntimeException {
+        HydrationDeferred() {
+            super(null, null, false, false);
+        }
+    }
+
+    private void hydrateInto(String patientId, Instant now, List<Work> work) {
+        Bundle page = client.search()
+                .forResource(Observation.class)
+                .where(Observation.SUBJECT.hasId("Patient/" + patientId))
+                .and(Observation.DATE.afterOrEquals().day(Date.from(now.minus(properties.window()))))
+                .count(500)
+                .returnBundle(Bundle.class)
+                .execute();
+        while (page != null) {
+            for (Bundle.BundleEntryComponent entry : page.getEntry()) {
+                if (!(entry.getResource() instanceof Observation obs)) {
+                    continue;
+                }
+                String id = obs.getIdElement().getIdPart();
+                String version = obs.getMeta().getVersionId();
+                if (received.seen("Observation", id, version) || !hasMappedCode(obs)) {
+                    continue;
+                }
+                try {
+                    NormalizedResource r = normalizer.normalize(obs, now, specimens);
+                    if (patientId.equals(r.patientId())) {
+                        work.add(new Work(null, r, "HYDRATION", null, now));
+                    }
+                } catch (SpecimenUnavailable e) {
+                    throw new IllegalStateException(e);
+                }
+            }
+            page = page.getLink(Bundle.LINK_NEXT) != null
+                    ? client.loadPage().next(page).execute()
+                    : null;
+        }
+    }
+
+    private boolean hasMappedCode(Observation obs) {
+        for (var c : obs.getCode().getCoding()) {
+            if (codes.lookup(c.getSystem(), c.getCode()).isPresent()) {
+                return true;
+            }
+        }
+        for (var comp : obs.getComponent()) {
+            for (var c : comp.getCode().getCoding()) {
+                if (codes.lookup(c.getSystem(), c.getCode()).isPresent()) {
+                    return true;
+                }
+            }
+        }
+        return false;
+    }
+}

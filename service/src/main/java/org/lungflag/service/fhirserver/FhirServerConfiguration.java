@@ -1,0 +1,37 @@
+package org.lungflag.service.fhirserver;
+
+import ca.uhn.fhir.context.FhirContext;
+import ca.uhn.fhir.context.PerformanceOptionsEnum;
+import ca.uhn.fhir.rest.client.api.IGenericClient;
+import ca.uhn.fhir.rest.client.api.IRestfulClientFactory;
+import ca.uhn.fhir.rest.client.api.ServerValidationModeEnum;
+import org.springframework.context.annotation.Bean;
+import org.springframework.context.annotation.Configuration;
+
+/** One FhirContext for the application (it is expensive and thread-safe) and a client for the FHIR server. */
+@Configuration(proxyBeanMethods = false)
+class FhirServerConfiguration {
+
+    /**
+     * Lungflag's own context (not the JVM-wide cached one): its parsers keep the versions of references, because
+     * flag-detail, derivedFrom and Provenance must point at the exact Observation versions used (invariant 5).
+     */
+    @Bean
+    FhirContext fhirContext() {
+        FhirContext context = FhirContext.forR4();
+        context.setPerformanceOptions(PerformanceOptionsEnum.DEFERRED_MODEL_SCANNING);
+        context.getParserOptions().setStripVersionsFromReferences(false);
+        return context;
+    }
+
+    @Bean
+    IGenericClient fhirClient(FhirContext fhirContext, FhirServerProperties properties) {
+        IRestfulClientFactory factory = fhirContext.getRestfulClientFactory();
+        factory.setServerValidationMode(ServerValidationModeEnum.NEVER);
+        factory.setConnectTimeout((int) properties.connectTimeout().toMillis());
+        factory.setSocketTimeout((int) properties.readTimeout().toMillis());
+        factory.setPoolMaxTotal(32);
+        factory.setPoolMaxPerRoute(32);
+        return factory.newGenericClient(properties.base());
+    }
+}

@@ -1,0 +1,191 @@
+package org.lungflag.service.intake;
+
+import java.nio.charset.StandardCharsets;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.sql.Timestamp;
+import java.time.Clock;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.HexFormat;
+import java.util.List;
+import org.springframework.jdbc.core.simple.JdbcClient;
+import org.springframework.jdbc.support.GeneratedKeyHolder;
+import org.springframework.jdbc.support.KeyHolder;
+import org.springframework.stereotype.Repository;
+import org.springframework.transaction.annotation.Transactional;
+
+/**
+ * The durable inbox between intake and evaluation. A row is committed before any channel acknowledges; rows are
+ * claimed in batches with {@code FOR UPDATE SKIP LOCKED} so several instances can share one database; the body is
+ * cleared once processed, so the inbox never keeps record content.
+ */
+@Repository
+public class InboxRepository {
+
+    static final String NEW = "NEW";
+    static final String CLAIMED = "CLAIMED";
+    static final String DONE = "DONE";
+
+    private final JdbcClient jdbc;
+    private final Clock clock;
+
+    InboxRepository(JdbcClient jdbc, Clock clock) {
+        this.jdbc = jdbc;
+        this.clock = clock;
+    }
+
+    /** Records one resource body. Returns the inbox id. */
+    @Transactional
+    public long add(String resourceType, String resourceId, String versionId, InboxChannel channel, String body) {
+        KeyHolder keys = new GeneratedKeyHolder();
+        jdbc.sql("""
+                        INSERT INTO intake_inbox (resource_type, resource_id, version_id, channel, body, body_sha256,
+                                                  received_at, status)
+                        VALUES (:type, :id, :version, :channel, :body, :sha, :now, 'NEW')
+                        """)
+                .param("type", resourceType)
+                .param("id", resourceId)
+                .param("version", versionId)
+                .param("channel", channel.name())
+                .param("body", body)
+                .param("sha", sha256(body))
+                .param("now", Timestamp.from(clock.instant()))
+                .update(keys, "id");
+        return keys.getKeyAs(Number.class).longValue();
+    }
+
+    /** Whether this resource version is already waiting (avoids queuing the same catch-up result twice). */
+    public boolean isPending(String resourceType, String resourceId, String versionId) {
+        return jdbc.sql("""
+                        SELECT COUNT(*) FROM intake_inbox
+                         WHERE resource_type = :type AND resource_id = :id AND version_id = :version
+                           AND status <> 'DONE'
+                        """)
+                        .param("type", resourceType)
+                        .param("id", resourceId)
+                        .param("version", versionId)
+                        .query(Long.class)
+                        .single()
+                > 0;
+    }
+
+    /**
+     * Claims up to {@code limit} waiting rows for {@code owner}, oldest first. A claim expires after {@code lease}
+     * so rows of a crashed instance are picked up again.
+     */
+    @Transactional
+    public List<InboxItem> claim(String owner, int limit, Duration lease) {
+        Instant now = clock.instant();
+        List<Long> ids = jdbc.sql("""
+                        SELECT id FROM intake_inbox
+                         WHERE status = 'NEW' OR (status = 'CLAIMED' AND claimed_until < :now)
+                         ORDER BY id
+                         FETCH FIRST :limit ROWS ONLY
+                         FOR UPDATE SKIP LOCKED
+                        """)
+                .param("now", Timestamp.from(now))
+                .param("limit", limit)
+                .query(Long.class)
+                .list();
+        if (ids.isEmpty()) {
+            return List.of();
+        }
+        jdbc.sql("""
+                        UPDATE intake_inbox SET status = 'CLAIMED', claimed_by = :owner, claimed_until = :until,
+                               attempts = attempts + 1
+                         WHERE id IN (:ids)
+                        """)
+                .param("owner", owner)
+                .param("until", Timestamp.from(now.plus(lease)))
+                .param("ids", ids)
+                .update();
+        return jdbc.sql("""
+                        SELECT id, resource_type, resource_id, version_id, channel, body, body_sha256, received_at,
+                               attempts
+                          FROM intake_inbox WHERE id IN (:ids) ORDER BY id
+                        """)
+                .param("ids", ids)
+                .query((rs, n) -> new InboxItem(
+                        rs.getLong("id"),
+                        rs.getString("resource_type"),
+                        rs.getString("resource_id"),
+                        rs.getString("version_id"),
+                        InboxChannel.valueOf(rs.getString("channel")),
+                        rs.getString("body"),
+                        rs.getString("body_sha256"),
+                        rs.getTimestamp("received_at").toInstant(),
+                        rs.getInt("attempts")))
+                .list();
+    }
+
+    /** Marks rows processed and clears their bodies. Call inside the transaction that recorded their effects. */
+    public void markDone(List<Long> ids) {
+        if (ids.isEmpty()) {
+            return;
+        }
+        jdbc.sql("""
+                        UPDATE intake_inbox SET status = 'DONE', body = NULL, claimed_until = NULL, processed_at = :now
+                         WHERE id IN (:ids)
+                        """)
+                .param("now", Timestamp.from(clock.instant()))
+                .param("ids", ids)
+                .update();
+    }
+
+    /**
+     * Puts claimed rows back to be retried after {@code delay} (e.g. the FHIR server was unreachable while a
+     * Specimen or Patient had to be read): they stay claimed by nobody until then, so a failing row cannot spin.
+     */
+    @Transactional
+    public void release(List<Long> ids, Duration delay) {
+        if (ids.isEmpty()) {
+            return;
+        }
+        jdbc.sql(
+                        "UPDATE intake_inbox SET status = 'CLAIMED', claimed_by = NULL, claimed_until = :until WHERE id IN (:ids)")
+                .param("until", Timestamp.from(clock.instant().plus(delay)))
+                .param("ids", ids)
+                .update();
+    }
+
+    /** Rows not yet processed, and the receipt time of the oldest. */
+    public Backlog backlog() {
+        return jdbc.sql("SELECT COUNT(*), MIN(received_at) FROM intake_inbox WHERE status <> 'DONE'")
+                .query((rs, n) -> new Backlog(
+                        rs.getLong(1),
+                        rs.getTimestamp(2) == null ? null : rs.getTimestamp(2).toInstant()))
+                .single();
+    }
+
+    /** The receipt time of the latest rest-hook notification, if any. */
+    public Instant lastNotificationAt() {
+        Timestamp t = jdbc.sql("SELECT MAX(received_at) FROM intake_inbox WHERE channel = 'REST_HOOK'")
+                .query((rs, n) -> rs.getTimestamp(1))
+                .list()
+                .get(0);
+        return t == null ? null : t.toInstant();
+    }
+
+    /** Deletes processed rows older than {@code age}; they have been emptied already. */
+    @Transactional
+    public int purgeDone(Duration age) {
+        return jdbc.sql("DELETE FROM intake_inbox WHERE status = 'DONE' AND processed_at < :before")
+                .param("before", Timestamp.from(clock.instant().minus(age)))
+                .update();
+    }
+
+    public record Backlog(long count, Instant oldestReceivedAt) {}
+
+    static String sha256(String body) {
+        if (body == null) {
+            return null;
+        }
+        try {
+            MessageDigest digest = MessageDigest.getInstance("SHA-256");
+            return HexFormat.of().formatHex(digest.digest(body.getBytes(StandardCharsets.UTF_8)));
+        } catch (NoSuchAlgorithmException e) {
+            throw new IllegalStateException("SHA-256 is required by the Java platform", e);
+        }
+    }
+}

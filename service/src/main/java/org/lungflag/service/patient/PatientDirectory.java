@@ -1,0 +1,129 @@
+package org.lungflag.service.patient;
+
+import ca.uhn.fhir.rest.client.api.IGenericClient;
+import ca.uhn.fhir.rest.server.exceptions.ResourceGoneException;
+import ca.uhn.fhir.rest.server.exceptions.ResourceNotFoundException;
+import java.sql.Date;
+import java.sql.Timestamp;
+import java.time.Clock;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.Optional;
+import org.hl7.fhir.r4.model.Patient;
+import org.lungflag.rules.patient.PatientFacts;
+import org.lungflag.rules.patient.Sex;
+import org.springframework.beans.factory.annotation.Value;
+import org.springframework.jdbc.core.simple.JdbcClient;
+import org.springframework.stereotype.Component;
+
+/**
+ * Sex and birth date of the patients Lungflag sees, read from the FHIR server and cached in the audit store for
+ * {@code lungflag.patient.refresh-after} (default 12 h). If the server cannot be reached, a cached value is used
+ * however old; with no cached value the caller retries later.
+ */
+@Component
+public class PatientDirectory {
+
+    private final IGenericClient client;
+    private final JdbcClient jdbc;
+    private final Clock clock;
+    private final Duration refreshAfter;
+
+    PatientDirectory(
+            IGenericClient client,
+            JdbcClient jdbc,
+            Clock clock,
+            @Value("${lungflag.patient.refresh-after:12h}") Duration refreshAfter) {
+        this.client = client;
+        this.jdbc = jdbc;
+        this.clock = clock;
+        this.refreshAfter = refreshAfter;
+    }
+
+    /** Thrown when demographics are needed and neither the server nor the cache has them. */
+    public static final class PatientUnavailable extends Exception {
+        public PatientUnavailable(String patientId, Throwable cause) {
+            super(
+                    "Patient/" + patientId + " could not be read: "
+                            + cause.getClass().getSimpleName(),
+                    cause);
+        }
+    }
+
+    private record Cached(PatientFacts facts, Instant at) {}
+
+    public PatientFacts facts(String patientId) throws PatientUnavailable {
+        Optional<Cached> cached = cached(patientId);
+        Instant now = clock.instant();
+        if (cached.isPresent() && cached.get().at().plus(refreshAfter).isAfter(now)) {
+            return cached.get().facts();
+        }
+        try {
+            PatientFacts facts = PatientFactsMapper.from(
+                    client.read().resource(Patient.class).withId(patientId).execute());
+            store(facts, now);
+            return facts;
+        } catch (ResourceNotFoundException | ResourceGoneException e) {
+            // A patient the server does not know: evaluate with unknown sex and age (rules say "not evaluable").
+            PatientFacts unknown = new PatientFacts(patientId, Sex.UNKNOWN, null);
+            store(unknown, now);
+            return unknown;
+        } catch (RuntimeException e) {
+            if (cached.isPresent()) {
+                return cached.get().facts();
+            }
+            throw new PatientUnavailable(patientId, e);
+        }
+    }
+
+    private Optional<Cached> cached(String patientId) {
+        return jdbc.sql("SELECT sex, birth_date, demographics_at FROM patient_state WHERE patient_id = :id")
+                .param("id", patientId)
+                .query((rs, n) -> {
+                    Timestamp at = rs.getTimestamp("demographics_at");
+                    if (at == null) {
+                        return null;
+                    }
+                    Date birth = rs.getDate("birth_date");
+                    String sex = rs.getString("sex");
+                    return new Cached(
+                            new PatientFacts(
+                                    patientId,
+                                    sex == null ? Sex.UNKNOWN : Sex.valueOf(sex),
+                                    birth == null ? null : birth.toLocalDate()),
+                            at.toInstant());
+                })
+                .optional();
+    }
+
+    private void store(PatientFacts facts, Instant now) {
+        Timestamp ts = Timestamp.from(now);
+        int updated = jdbc.sql(
+                        "UPDATE patient_state SET sex = :sex, birth_date = :birth, demographics_at = :now, updated_at = :now"
+                                + " WHERE patient_id = :id")
+                .param("sex", facts.sex().name())
+                .param("birth", facts.birthDate() == null ? null : Date.valueOf(facts.birthDate()))
+                .param("now", ts)
+                .param("id", facts.patientId())
+                .update();
+        if (updated == 0) {
+            try {
+                insert(facts, ts);
+            } catch (org.springframework.dao.DuplicateKeyException raced) {
+                store(facts, now); // created meanwhile by the evaluation of this patient: update it instead
+            }
+        }
+    }
+
+    private void insert(PatientFacts facts, Timestamp ts) {
+        jdbc.sql("""
+                            INSERT INTO patient_state (patient_id, sex, birth_date, demographics_at, state_seq, updated_at)
+                            VALUES (:id, :sex, :birth, :now, 0, :now)
+                            """)
+                .param("id", facts.patientId())
+                .param("sex", facts.sex().name())
+                .param("birth", facts.birthDate() == null ? null : Date.valueOf(facts.birthDate()))
+                .param("now", ts)
+                .update();
+    }
+}
