@@ -6,6 +6,7 @@ import java.sql.Timestamp;
 import java.time.Clock;
 import java.util.List;
 import org.lungflag.rules.quality.DataQualityReason;
+import org.lungflag.service.metrics.LungflagMetrics;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.jdbc.core.simple.JdbcClient;
@@ -20,10 +21,12 @@ public class QuarantineRepository {
 
     private final JdbcClient jdbc;
     private final Clock clock;
+    private final LungflagMetrics metrics;
 
-    QuarantineRepository(JdbcClient jdbc, Clock clock) {
+    QuarantineRepository(JdbcClient jdbc, Clock clock, LungflagMetrics metrics) {
         this.jdbc = jdbc;
         this.clock = clock;
+        this.metrics = metrics;
     }
 
     /** A refusal of something we can point back to (resource type, id, version). */
@@ -64,6 +67,7 @@ public class QuarantineRepository {
                 .param("excerpt", excerpt)
                 .param("now", Timestamp.from(clock.instant()))
                 .update();
+        metrics.rejected(r.stage().name(), r.reason().code());
         log.info(
                 "quarantined {} {}/{} reason={}",
                 r.stage(),

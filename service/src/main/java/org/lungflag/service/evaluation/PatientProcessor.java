@@ -38,6 +38,7 @@ import org.lungflag.service.audit.ReceivedResourceRepository;
 import org.lungflag.service.audit.ReceivedResourceRepository.Outcome;
 import org.lungflag.service.evaluation.EpisodeRepository.EpisodeRow;
 import org.lungflag.service.intake.InboxRepository;
+import org.lungflag.service.metrics.LungflagMetrics;
 import org.lungflag.service.normalize.NormalizedResource;
 import org.lungflag.service.writeback.AdvisoryResources;
 import org.lungflag.service.writeback.OutboxKind;
@@ -77,6 +78,7 @@ public class PatientProcessor {
     private final FhirContext fhir;
     private final ObjectMapper json;
     private final Clock clock;
+    private final LungflagMetrics metrics;
 
     PatientProcessor(
             RuleEngine engine,
@@ -95,7 +97,8 @@ public class PatientProcessor {
             TransactionTemplate tx,
             FhirContext fhir,
             ObjectMapper json,
-            Clock clock) {
+            Clock clock,
+            LungflagMetrics metrics) {
         this.engine = engine;
         this.catalog = catalog;
         this.properties = properties;
@@ -113,6 +116,7 @@ public class PatientProcessor {
         this.fhir = fhir;
         this.json = json;
         this.clock = clock;
+        this.metrics = metrics;
     }
 
     /** What one call changed, for metrics and tests. */
@@ -125,6 +129,11 @@ public class PatientProcessor {
                 (Work w) -> w.resource().clinicalTime(), Comparator.nullsFirst(Comparator.naturalOrder())));
         try {
             Result result = tx.execute(status -> applyInTransaction(patientId, patient, ordered, null));
+            for (Work w : ordered) {
+                if (w.inboxId() != null) {
+                    metrics.committed(w.receivedAt());
+                }
+            }
             return result;
         } catch (RuntimeException e) {
             cache.evict(patientId);
@@ -268,6 +277,7 @@ public class PatientProcessor {
             EvaluationMode mode = modes.mode(e.ruleId());
             ids.put(e, evaluations.add(e, mode));
             counts.evaluations++;
+            metrics.evaluated(e.ruleId(), e.outcome().name());
             List<String> inputs = AdvisoryResources.inputsOf(e);
             if (!inputs.isEmpty()) {
                 lastInputsByRule.put(e.ruleId(), inputs);
@@ -363,6 +373,7 @@ public class PatientProcessor {
                 mode,
                 encode(flag));
         counts.flagWrites++;
+        metrics.advisory(rule.id(), flag.getStatus().toCode());
     }
 
     private void reopen(String patientId, Episode active, EpisodeRow row, Counts counts) {

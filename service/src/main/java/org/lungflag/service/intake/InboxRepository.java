@@ -9,6 +9,7 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.HexFormat;
 import java.util.List;
+import org.lungflag.service.metrics.LungflagMetrics;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.jdbc.support.GeneratedKeyHolder;
 import org.springframework.jdbc.support.KeyHolder;
@@ -29,10 +30,12 @@ public class InboxRepository {
 
     private final JdbcClient jdbc;
     private final Clock clock;
+    private final LungflagMetrics metrics;
 
-    InboxRepository(JdbcClient jdbc, Clock clock) {
+    InboxRepository(JdbcClient jdbc, Clock clock, LungflagMetrics metrics) {
         this.jdbc = jdbc;
         this.clock = clock;
+        this.metrics = metrics;
     }
 
     /** Records one resource body. Returns the inbox id. */
@@ -52,6 +55,7 @@ public class InboxRepository {
                 .param("sha", sha256(body))
                 .param("now", Timestamp.from(clock.instant()))
                 .update(keys, "id");
+        metrics.received(channel.name());
         return keys.getKeyAs(Number.class).longValue();
     }
 

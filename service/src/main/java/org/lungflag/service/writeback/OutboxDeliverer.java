@@ -21,6 +21,7 @@ import org.lungflag.rules.quality.DataQualityReason;
 import org.lungflag.service.audit.QuarantineRepository;
 import org.lungflag.service.audit.QuarantineRepository.Refusal;
 import org.lungflag.service.audit.QuarantineStage;
+import org.lungflag.service.metrics.LungflagMetrics;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.jdbc.core.simple.JdbcClient;
@@ -50,6 +51,7 @@ public class OutboxDeliverer {
     private final TransactionTemplate tx;
     private final JdbcClient jdbc;
     private final Clock clock;
+    private final LungflagMetrics metrics;
     private final ObjectMapper json = new ObjectMapper();
 
     OutboxDeliverer(
@@ -61,7 +63,8 @@ public class OutboxDeliverer {
             WritebackProperties properties,
             TransactionTemplate tx,
             JdbcClient jdbc,
-            Clock clock) {
+            Clock clock,
+            LungflagMetrics metrics) {
         this.outbox = outbox;
         this.client = client;
         this.fhir = fhir;
@@ -71,6 +74,7 @@ public class OutboxDeliverer {
         this.tx = tx;
         this.jdbc = jdbc;
         this.clock = clock;
+        this.metrics = metrics;
     }
 
     @Scheduled(fixedDelayString = "${lungflag.writeback.poll-interval:500ms}")
@@ -116,7 +120,21 @@ public class OutboxDeliverer {
                     permanent(row, DataQualityReason.OUTGOING_INVALID, String.join("; ", invalid), null);
                     return;
                 }
-                Bundle response = client.transaction().withBundle(transaction).execute();
+                long started = System.nanoTime();
+                Bundle response;
+                try {
+                    response = client.transaction().withBundle(transaction).execute();
+                    metrics.fhirWrite(
+                            java.time.Duration.ofNanos(System.nanoTime() - started),
+                            true,
+                            row.kind().name());
+                } catch (RuntimeException e) {
+                    metrics.fhirWrite(
+                            java.time.Duration.ofNanos(System.nanoTime() - started),
+                            false,
+                            row.kind().name());
+                    throw e;
+                }
                 flagRef = firstFlagLocation(response);
                 if (row.kind() == OutboxKind.FLAG && flagRef != null) {
                     String ref = flagRef;

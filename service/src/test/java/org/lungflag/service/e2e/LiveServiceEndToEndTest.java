@@ -33,6 +33,7 @@ import org.lungflag.fhir.profiles.LungflagFhir;
 import org.lungflag.service.intake.CatchUpSearch;
 import org.lungflag.service.intake.SubscriptionRegistrar;
 import org.springframework.beans.factory.annotation.Autowired;
+import org.springframework.boot.test.autoconfigure.actuate.observability.AutoConfigureObservability;
 import org.springframework.boot.test.context.SpringBootTest;
 import org.springframework.boot.test.web.server.LocalServerPort;
 import org.springframework.jdbc.core.simple.JdbcClient;
@@ -50,6 +51,7 @@ import org.springframework.test.context.DynamicPropertySource;
  */
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
+@AutoConfigureObservability(tracing = false)
 class LiveServiceEndToEndTest {
 
     @DynamicPropertySource
@@ -172,8 +174,9 @@ class LiveServiceEndToEndTest {
                         .getValue()
                         .primitiveValue())
                 .isNotBlank();
-        List<Provenance> provenance = provenanceOf(flag);
-        assertThat(provenance).hasSize(1);
+        // the Provenance follows the Flag write (it targets the Flag version the server assigned)
+        List<Provenance> provenance =
+                await().atMost(Duration.ofSeconds(30)).until(() -> provenanceOf(flag), list -> list.size() == 1);
         assertThat(provenance.get(0).getPolicy().get(0).getValue())
                 .startsWith(LungflagFhir.RULE_CANONICAL_BASE + "hypoxemia|");
         assertThat(provenance.get(0).getEntity())
@@ -226,6 +229,7 @@ class LiveServiceEndToEndTest {
         Flag flag = await().atMost(Duration.ofSeconds(60))
                 .until(() -> flagsOf(p), f -> f.size() == 1)
                 .get(0);
+        await().atMost(Duration.ofSeconds(30)).until(() -> provenanceOf(flag).size() == 1);
         long evaluations = countEvaluations(p);
         Observation current =
                 fhir.read().resource(Observation.class).withId(pao2).execute();
@@ -285,7 +289,29 @@ class LiveServiceEndToEndTest {
                 });
     }
 
+    @Test
+    void healthReportsTheFhirServerAndDatabaseAndMetricsCountWhatHappened() throws Exception {
+        aBloodGasInTheModerateBandBecomesAFlagWithProvenanceAndEscalationUpdatesTheSameFlag();
+        HttpClient http = HttpClient.newHttpClient();
+        HttpResponse<String> health = http.send(
+                HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/actuator/health"))
+                        .build(),
+                HttpResponse.BodyHandlers.ofString());
+        assertThat(health.statusCode()).isEqualTo(200);
+        assertThat(health.body()).contains("\"fhirServer\"").contains("\"db\"").contains("\"writeBack\"");
+        HttpResponse<String> metrics = http.send(
+                HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/actuator/prometheus"))
+                        .build(),
+                HttpResponse.BodyHandlers.ofString());
+        assertThat(metrics.body())
+                .contains("lungflag_intake_received_total{channel=\"REST_HOOK\"")
+                .contains("lungflag_evaluations_total{outcome=\"ONSET\",rule=\"hypoxemia\"")
+                .contains("lungflag_fhir_write_seconds_count")
+                .doesNotContain("Patient/");
+    }
+
     private long countEvaluations(String patientId) {
+
         return jdbc.sql("SELECT COUNT(*) FROM evaluation WHERE patient_id = :p")
                 .param("p", patientId)
                 .query(Long.class)

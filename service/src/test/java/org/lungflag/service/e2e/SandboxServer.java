@@ -10,22 +10,22 @@ import org.springframework.test.context.DynamicPropertyRegistry;
  * Points a service test context at the one embedded HAPI JPA server of this test JVM, and gives the service a fixed
  * port so the Subscriptions it registers can reach it.
  */
-final class SandboxServer {
+public final class SandboxServer {
 
     private SandboxServer() {}
 
-    static SandboxFhirServer server() {
+    public static SandboxFhirServer server() {
         return SandboxFhirServer.shared();
     }
 
-    static void register(DynamicPropertyRegistry registry) {
+    public static void register(DynamicPropertyRegistry registry) {
         int port = freePort();
         registry.add("lungflag.fhir.base-url", () -> server().baseUrl());
         registry.add("server.port", () -> port);
         registry.add("lungflag.intake.public-url", () -> "http://127.0.0.1:" + port);
     }
 
-    static int freePort() {
+    public static int freePort() {
         try (ServerSocket socket = new ServerSocket(0)) {
             return socket.getLocalPort();
         } catch (IOException e) {
