@@ -214,6 +214,17 @@ class ComposeFileTest {
                 .contains("ENTRYPOINT [\"java\", \"-jar\", \"sandbox/target/lungflag-sandbox-exec.jar\"]");
     }
 
+    @Test
+    void everyLungflagKeyTheServiceReadsIsInTheReadmeSettingsTable() {
+        String readme = DeploymentFiles.read("README.md");
+        String table = readme.substring(readme.indexOf("### Settings"), readme.indexOf("### Scaling out"));
+        assertThat(keys.keys().stream().filter(k -> k.startsWith("lungflag.")))
+                .isNotEmpty()
+                .allSatisfy(k -> assertThat(table.contains("`" + k + "`") || table.contains("`" + k + ".*`"))
+                        .as("README.md \"Settings\" documents %s", k)
+                        .isTrue());
+    }
+
     private static int fhirPort() {
         // HAPI's image listens on 8080 unless server.port is set
         String override =

@@ -15,10 +15,10 @@ import java.util.regex.Pattern;
 import org.yaml.snakeyaml.Yaml;
 
 /** The repository's {@code docker-compose.yml} and {@code Dockerfile}, read as data for the deployment tests. */
-final class DeploymentFiles {
+public final class DeploymentFiles {
 
-    static final Path ROOT = findRoot();
-    static final Path SERVICE_MODULE = ROOT.resolve("service");
+    public static final Path ROOT = findRoot();
+    public static final Path SERVICE_MODULE = ROOT.resolve("service");
 
     private DeploymentFiles() {}
 
@@ -34,7 +34,7 @@ final class DeploymentFiles {
         return p;
     }
 
-    static String read(String file) {
+    public static String read(String file) {
         try {
             return Files.readString(ROOT.resolve(file));
         } catch (IOException e) {
@@ -43,16 +43,16 @@ final class DeploymentFiles {
     }
 
     @SuppressWarnings("unchecked")
-    static Map<String, Object> compose() {
+    public static Map<String, Object> compose() {
         return (Map<String, Object>) new Yaml().load(read("docker-compose.yml"));
     }
 
     @SuppressWarnings("unchecked")
-    static Map<String, Map<String, Object>> services() {
+    public static Map<String, Map<String, Object>> services() {
         return (Map<String, Map<String, Object>>) compose().get("services");
     }
 
-    static Map<String, Object> service(String name) {
+    public static Map<String, Object> service(String name) {
         Map<String, Object> s = services().get(name);
         if (s == null) {
             throw new AssertionError("docker-compose.yml has no service " + name);
@@ -61,7 +61,7 @@ final class DeploymentFiles {
     }
 
     /** The service built from the Dockerfile stage {@code target}. */
-    static String serviceBuiltFrom(String target) {
+    public static String serviceBuiltFrom(String target) {
         return services().entrySet().stream()
                 .filter(e -> e.getValue().get("build") instanceof Map<?, ?> b && target.equals(b.get("target")))
                 .map(Map.Entry::getKey)
@@ -71,7 +71,7 @@ final class DeploymentFiles {
 
     /** A service's environment as a map (compose accepts a map or a list of NAME=value). */
     @SuppressWarnings("unchecked")
-    static Map<String, String> environment(String service) {
+    public static Map<String, String> environment(String service) {
         Object env = service(service).get("environment");
         Map<String, String> out = new LinkedHashMap<>();
         if (env instanceof Map<?, ?> m) {
@@ -87,19 +87,19 @@ final class DeploymentFiles {
     }
 
     /** {@code ${VAR:-default}} → default; {@code ${VAR}} → empty. What compose gives without an override. */
-    static String withDefaults(String value) {
+    public static String withDefaults(String value) {
         if (value == null) {
             return null;
         }
         return value.replaceAll("\\$\\{[A-Za-z0-9_]+(?::?-([^}]*))?}", "$1");
     }
 
-    static URI uri(String value) {
+    public static URI uri(String value) {
         return URI.create(withDefaults(value).replaceFirst("^jdbc:", ""));
     }
 
     /** Container ports a service publishes ({@code "8090:8080"} → 8080). */
-    static List<Integer> containerPorts(String service) {
+    public static List<Integer> containerPorts(String service) {
         List<Integer> out = new ArrayList<>();
         Object ports = service(service).get("ports");
         if (ports instanceof List<?> l) {
@@ -113,7 +113,7 @@ final class DeploymentFiles {
     }
 
     @SuppressWarnings("unchecked")
-    static List<String> healthcheckTest(String service) {
+    public static List<String> healthcheckTest(String service) {
         Object hc = service(service).get("healthcheck");
         if (!(hc instanceof Map<?, ?> m)) {
             return List.of();
@@ -122,7 +122,7 @@ final class DeploymentFiles {
     }
 
     /** The Dockerfile's {@code ARG NAME=default} values. */
-    static Map<String, String> dockerfileArgs() {
+    public static Map<String, String> dockerfileArgs() {
         Map<String, String> args = new LinkedHashMap<>();
         Matcher m =
                 Pattern.compile("(?m)^ARG\\s+([A-Za-z_][A-Za-z0-9_]*)=(\\S+)").matcher(read("Dockerfile"));
@@ -133,7 +133,7 @@ final class DeploymentFiles {
     }
 
     /** Every {@code FROM image AS stage} of the Dockerfile, ARG defaults substituted, by stage name. */
-    static Map<String, String> dockerfileStages() {
+    public static Map<String, String> dockerfileStages() {
         Map<String, String> args = dockerfileArgs();
         Map<String, String> stages = new LinkedHashMap<>();
         Matcher m = Pattern.compile("(?m)^FROM\\s+(\\S+)(?:\\s+AS\\s+(\\S+))?").matcher(read("Dockerfile"));
@@ -151,7 +151,7 @@ final class DeploymentFiles {
     }
 
     /** The exec-form {@code HEALTHCHECK ... CMD [...]} of a Dockerfile stage, joined with spaces. */
-    static Optional<String> dockerfileHealthcheck(String stage) {
+    public static Optional<String> dockerfileHealthcheck(String stage) {
         String text = read("Dockerfile").replace("\\\n", " ");
         int from = text.indexOf(" AS " + stage + "\n");
         if (from < 0) {
@@ -168,7 +168,7 @@ final class DeploymentFiles {
     }
 
     /** A property of the parent pom, e.g. {@code hapi.version}. */
-    static String pomProperty(String name) {
+    public static String pomProperty(String name) {
         Matcher m = Pattern.compile("<" + Pattern.quote(name) + ">([^<]+)</").matcher(read("pom.xml"));
         if (!m.find()) {
             throw new AssertionError("pom.xml has no property " + name);
