@@ -17,7 +17,9 @@ import org.springframework.scheduling.annotation.EnableScheduling;
             "org.springframework.boot.autoconfigure.quartz.QuartzAutoConfiguration",
             "org.springframework.boot.autoconfigure.batch.BatchAutoConfiguration",
             "org.springframework.boot.autoconfigure.elasticsearch.ElasticsearchClientAutoConfiguration",
-            "org.springframework.boot.autoconfigure.elasticsearch.ElasticsearchRestClientAutoConfiguration"
+            "org.springframework.boot.autoconfigure.elasticsearch.ElasticsearchRestClientAutoConfiguration",
+            // The bus intake builds its own consumer from lungflag.intake.bus.* only when enabled.
+            "org.springframework.boot.autoconfigure.kafka.KafkaAutoConfiguration"
         })
 @ConfigurationPropertiesScan
 @EnableScheduling

@@ -92,6 +92,64 @@ public final class PatientEvaluator {
         return new PatientEvaluator(engine, timeline, patient, persisted);
     }
 
+    /**
+     * Everything an evaluator holds besides its timeline, as plain records (JSON-friendly): with the same timeline,
+     * {@link #resume(RuleEngine, PatientTimeline, PatientFacts, Resumable)} continues exactly as this evaluator
+     * would, late data included. The service persists it, so an instance whose cached evaluator is stale (another
+     * instance processed the patient) or gone (a restart) can still re-run from the checkpoint before a late fact.
+     *
+     * @param current the state now, advances included ({@link #state()})
+     * @param lastStep the state right after the latest evaluation point
+     * @param previousStep the state after the point before it, or {@code null}
+     * @param checkpoints the checkpoints, oldest (the horizon) first
+     * @param steps evaluation points stepped so far (sets the checkpoint cadence)
+     */
+    public record Resumable(
+            EngineState current,
+            EngineState lastStep,
+            EngineState previousStep,
+            List<Checkpoint> checkpoints,
+            int steps) {
+
+        public Resumable {
+            Objects.requireNonNull(current, "current");
+            Objects.requireNonNull(lastStep, "lastStep");
+            checkpoints = List.copyOf(checkpoints);
+            if (checkpoints.isEmpty()) {
+                throw new IllegalArgumentException("a resumable evaluator has at least one checkpoint");
+            }
+        }
+    }
+
+    /** The state after the evaluation point at {@code at}; {@code at} is {@code null} for the state before any. */
+    public record Checkpoint(Instant at, EngineState state) {}
+
+    /** This evaluator's state and checkpoints, to resume it elsewhere or later. */
+    public Resumable resumable() {
+        List<Checkpoint> list = new ArrayList<>(checkpoints.size());
+        for (Map.Entry<Instant, EngineState> e : checkpoints.entrySet()) {
+            list.add(new Checkpoint(e.getKey().equals(Instant.MIN) ? null : e.getKey(), e.getValue()));
+        }
+        return new Resumable(current, lastStep, previousStep, list, steps);
+    }
+
+    /**
+     * Continues exactly where {@code saved} was taken, over a timeline holding the same facts (e.g. rebuilt from the
+     * service's store): late facts re-run from the checkpoint before them, as they would have in the original.
+     */
+    public static PatientEvaluator resume(
+            RuleEngine engine, PatientTimeline timeline, PatientFacts patient, Resumable saved) {
+        PatientEvaluator ev = new PatientEvaluator(engine, timeline, patient, saved.current());
+        ev.lastStep = saved.lastStep();
+        ev.previousStep = saved.previousStep();
+        ev.checkpoints.clear();
+        for (Checkpoint c : saved.checkpoints()) {
+            ev.checkpoints.put(c.at() == null ? Instant.MIN : c.at(), c.state());
+        }
+        ev.steps = saved.steps();
+        return ev;
+    }
+
     private static Instant key(EngineState s) {
         return s.evaluatedUpTo() == null ? Instant.MIN : s.evaluatedUpTo();
     }

@@ -356,6 +356,7 @@ public class InboxProcessor implements SmartLifecycle {
                 .where(Observation.SUBJECT.hasId("Patient/" + patientId))
                 .and(Observation.DATE.afterOrEquals().day(Date.from(now.minus(properties.window()))))
                 .count(500)
+                .cacheControl(new ca.uhn.fhir.rest.api.CacheControlDirective().setNoCache(true))
                 .returnBundle(Bundle.class)
                 .execute();
         while (page != null) {

@@ -169,7 +169,7 @@ public class PatientProcessor {
             reconcile(patientId, evaluator.advanceTo(advanceTo), evaluator, counts);
         }
         Instant latest = evaluator.timeline().latestTime().orElse(null);
-        long next = states.save(patientId, evaluator.state(), latest, seq);
+        long next = states.save(patientId, evaluator.resumable(), latest, seq);
         inbox.markDone(done);
         cache.put(patientId, evaluator, next);
         return new Result(counts.evaluations, counts.flagWrites);
@@ -181,9 +181,13 @@ public class PatientProcessor {
         if (cached != null && cached.seq() == seq) {
             return cached.evaluator();
         }
+        // stale (another instance processed the patient since), evicted, or never seen here: rebuild from the store
         PatientTimeline timeline = timelines.load(patientId, properties.window());
         if (stored == null) {
             return PatientEvaluator.start(engine, timeline, patient);
+        }
+        if (stored.resumable() != null) {
+            return PatientEvaluator.resume(engine, timeline, patient, stored.resumable());
         }
         return PatientEvaluator.resume(engine, timeline, patient, stored.state());
     }

@@ -10,6 +10,7 @@ import java.time.Instant;
 import java.util.Optional;
 import javax.sql.DataSource;
 import org.lungflag.rules.engine.EngineState;
+import org.lungflag.rules.engine.PatientEvaluator.Resumable;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.stereotype.Repository;
 
@@ -38,8 +39,12 @@ class PatientStateStore {
         }
     }
 
-    /** The stored state and its sequence number. */
-    record Stored(EngineState state, long seq) {}
+    /**
+     * The stored state, its sequence number and, when written by this version, the evaluator's checkpoints.
+     *
+     * @param resumable {@code null} for a row written before checkpoints were kept
+     */
+    record Stored(EngineState state, Resumable resumable, long seq) {}
 
     /** Takes the patient's lock for the current transaction and returns the stored state (creating the row). */
     Optional<Stored> lockAndLoad(String patientId) {
@@ -51,11 +56,18 @@ class PatientStateStore {
                     .list();
         }
         ensureRow(patientId);
-        return jdbc.sql("SELECT engine_state, state_seq FROM patient_state WHERE patient_id = :p FOR UPDATE")
+        return jdbc.sql(
+                        "SELECT engine_state, engine_resume, state_seq FROM patient_state WHERE patient_id = :p FOR UPDATE")
                 .param("p", patientId)
                 .query((rs, n) -> {
                     String state = rs.getString("engine_state");
-                    return state == null ? null : new Stored(read(state), rs.getLong("state_seq"));
+                    String resume = rs.getString("engine_resume");
+                    return state == null
+                            ? null
+                            : new Stored(
+                                    read(state, EngineState.class),
+                                    resume == null ? null : read(resume, Resumable.class),
+                                    rs.getLong("state_seq"));
                 })
                 .optional();
     }
@@ -69,15 +81,16 @@ class PatientStateStore {
                 .orElse(0L);
     }
 
-    /** Saves the state and moves the sequence on. Returns the new sequence number. */
-    long save(String patientId, EngineState state, Instant latestClinical, long expectedSeq) {
+    /** Saves the evaluator's state and checkpoints and moves the sequence on. Returns the new sequence number. */
+    long save(String patientId, Resumable resumable, Instant latestClinical, long expectedSeq) {
         long next = expectedSeq + 1;
         jdbc.sql("""
-                        UPDATE patient_state SET engine_state = :state, state_seq = :next, latest_clinical = :latest,
-                               updated_at = :now
+                        UPDATE patient_state SET engine_state = :state, engine_resume = :resume, state_seq = :next,
+                               latest_clinical = :latest, updated_at = :now
                          WHERE patient_id = :p
                         """)
-                .param("state", write(state))
+                .param("state", write(resumable.current()))
+                .param("resume", write(resumable))
                 .param("next", next)
                 .param("latest", latestClinical == null ? null : Timestamp.from(latestClinical))
                 .param("now", Timestamp.from(clock.instant()))
@@ -86,17 +99,19 @@ class PatientStateStore {
         return next;
     }
 
+    /**
+     * Creates the state row if missing. {@code ON CONFLICT DO NOTHING}: the patient directory may create the row at
+     * the same moment from another instance (it caches demographics there without this lock), and a failed insert
+     * would abort the whole transaction on PostgreSQL.
+     */
     private void ensureRow(String patientId) {
-        if (jdbc.sql("SELECT COUNT(*) FROM patient_state WHERE patient_id = :p")
-                        .param("p", patientId)
-                        .query(Long.class)
-                        .single()
-                == 0) {
-            jdbc.sql("INSERT INTO patient_state (patient_id, state_seq, updated_at) VALUES (:p, 0, :now)")
-                    .param("p", patientId)
-                    .param("now", Timestamp.from(clock.instant()))
-                    .update();
-        }
+        jdbc.sql("""
+                        INSERT INTO patient_state (patient_id, state_seq, updated_at) VALUES (:p, 0, :now)
+                        ON CONFLICT DO NOTHING
+                        """)
+                .param("p", patientId)
+                .param("now", Timestamp.from(clock.instant()))
+                .update();
     }
 
     /** A stable 64-bit key for the advisory lock. */
@@ -108,7 +123,7 @@ class PatientStateStore {
         return h;
     }
 
-    private String write(EngineState state) {
+    private String write(Object state) {
         try {
             return json.writeValueAsString(state);
         } catch (JsonProcessingException e) {
@@ -116,9 +131,9 @@ class PatientStateStore {
         }
     }
 
-    private EngineState read(String state) {
+    private <T> T read(String state, Class<T> type) {
         try {
-            return json.readValue(state, EngineState.class);
+            return json.readValue(state, type);
         } catch (JsonProcessingException e) {
             throw new IllegalStateException("cannot decode the stored engine state", e);
         }

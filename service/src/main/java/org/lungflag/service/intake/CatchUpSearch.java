@@ -145,6 +145,8 @@ public class CatchUpSearch {
                 .sort()
                 .ascending("_lastUpdated")
                 .count(PAGE_SIZE)
+                // a server that reuses recent search results (HAPI: 60 s by default) must search afresh
+                .cacheControl(new ca.uhn.fhir.rest.api.CacheControlDirective().setNoCache(true))
                 .returnBundle(Bundle.class)
                 .execute();
         int queued = 0;

@@ -181,7 +181,7 @@ public class InboxRepository {
 
     public record Backlog(long count, Instant oldestReceivedAt) {}
 
-    static String sha256(String body) {
+    public static String sha256(String body) {
         if (body == null) {
             return null;
         }

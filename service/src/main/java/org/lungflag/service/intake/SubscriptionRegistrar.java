@@ -1,5 +1,6 @@
 package org.lungflag.service.intake;
 
+import ca.uhn.fhir.rest.api.CacheControlDirective;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import java.net.URI;
 import java.util.ArrayList;
@@ -36,6 +37,7 @@ public class SubscriptionRegistrar {
     private final CodeMap codes;
     private final HookToken token;
     private final IntakeProperties properties;
+    private final RegistrationLock lock;
     private final AtomicBoolean done = new AtomicBoolean(false);
 
     SubscriptionRegistrar(
@@ -43,7 +45,9 @@ public class SubscriptionRegistrar {
             ConformancePackage conformance,
             CodeMap codes,
             HookToken token,
-            IntakeProperties properties) {
+            IntakeProperties properties,
+            RegistrationLock lock) {
+        this.lock = lock;
         this.client = client;
         this.conformance = conformance;
         this.codes = codes;
@@ -72,7 +76,8 @@ public class SubscriptionRegistrar {
             return;
         }
         try {
-            ensure();
+            // several instances behind one public URL share one set of Subscriptions: one registers at a time
+            lock.holding("subscriptions:" + endpoint(), this::ensure);
             done.set(true);
         } catch (RuntimeException e) {
             log.warn(
@@ -99,6 +104,7 @@ public class SubscriptionRegistrar {
                     .withTag(LungflagFhir.CodeSystems.SUBSCRIPTION_TEMPLATE, tag)
                     .where(Subscription.URL.matches().value(endpoint()))
                     .count(10)
+                    .cacheControl(new CacheControlDirective().setNoCache(true)) // not a result cached before a create
                     .returnBundle(Bundle.class)
                     .execute();
             Subscription current = found.getEntry().stream()

@@ -28,22 +28,27 @@ class WatermarkRepository {
                 .map(Timestamp::toInstant);
     }
 
-    /** Moves the watermark forward (never backward, so two instances cannot rewind each other). */
+    /**
+     * Moves the watermark forward (never backward, so two instances cannot rewind each other). The row is created
+     * with {@code ON CONFLICT DO NOTHING} first: two instances starting together would otherwise both insert it, and
+     * the loser's catch-up search would fail until its next interval.
+     */
     @Transactional
     void advance(String name, Instant position) {
         Timestamp now = Timestamp.from(clock.instant());
-        int updated = jdbc.sql(
+        jdbc.sql("""
+                        INSERT INTO watermark (name, position, updated_at) VALUES (:name, :position, :now)
+                        ON CONFLICT DO NOTHING
+                        """)
+                .param("name", name)
+                .param("position", Timestamp.from(position))
+                .param("now", now)
+                .update();
+        jdbc.sql(
                         "UPDATE watermark SET position = :position, updated_at = :now WHERE name = :name AND position < :position")
                 .param("name", name)
                 .param("position", Timestamp.from(position))
                 .param("now", now)
                 .update();
-        if (updated == 0 && get(name).isEmpty()) {
-            jdbc.sql("INSERT INTO watermark (name, position, updated_at) VALUES (:name, :position, :now)")
-                    .param("name", name)
-                    .param("position", Timestamp.from(position))
-                    .param("now", now)
-                    .update();
-        }
     }
 }
