@@ -96,6 +96,7 @@ final class Replay {
     private final String sweepKey;
     private final List<String> sweepValues;
     private final Progress progress;
+    private final long bytesPerBucket;
 
     private final FhirContext fhir;
     private final IParser parser;
@@ -144,7 +145,9 @@ final class Replay {
             ParameterOverrides overrides,
             String sweepKey,
             List<String> sweepValues,
-            Progress progress) {
+            Progress progress,
+            long bytesPerBucket) {
+        this.bytesPerBucket = bytesPerBucket;
         this.inputs = inputs;
         this.out = out;
         this.catalog = catalog;
@@ -216,7 +219,7 @@ final class Replay {
         for (Input in : inputs) {
             bytesTotal += Files.size(in.path());
         }
-        int buckets = (int) Math.max(1, Math.min(512, (bytesTotal + BYTES_PER_BUCKET - 1) / BYTES_PER_BUCKET));
+        int buckets = (int) Math.max(1, Math.min(512, (bytesTotal + bytesPerBucket - 1) / bytesPerBucket));
         Path work = Files.createTempDirectory(out, ".replay-work-");
         try (Spill spill = new Spill(work, buckets);
                 Writer rej = writer(out.resolve("rejected.ndjson"))) {

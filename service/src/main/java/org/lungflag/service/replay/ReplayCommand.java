@@ -58,10 +58,12 @@ public final class ReplayCommand {
      * @param terminal whether stderr is a terminal (progress rewrites one line) or not (a periodic plain line)
      */
     public static int run(List<String> args, PrintStream err, boolean terminal) {
-        return run(args, err, terminal, Duration.ofSeconds(10));
+        return run(args, err, terminal, Duration.ofSeconds(10), Replay.BYTES_PER_BUCKET);
     }
 
-    static int run(List<String> args, PrintStream err, boolean terminal, Duration plainProgressEvery) {
+    /** As {@link #run(List, PrintStream, boolean)}, with the progress interval and bucket size tests choose. */
+    static int run(
+            List<String> args, PrintStream err, boolean terminal, Duration plainProgressEvery, long bytesPerBucket) {
         Replay replay;
         Path outDir;
         try {
@@ -112,7 +114,8 @@ public final class ReplayCommand {
                     overrides,
                     options.sweepKey(),
                     options.sweepValues(),
-                    new Progress(err, terminal, plainProgressEvery));
+                    new Progress(err, terminal, plainProgressEvery),
+                    bytesPerBucket);
         } catch (BadArgument e) {
             err.println("replay: " + e.getMessage());
             return BAD_ARGUMENTS;
