@@ -89,6 +89,11 @@ public final class SandboxFhirServer implements AutoCloseable {
      *
      * @throws IllegalStateException when it cannot start, and again at once on every later call in the same JVM
      */
+    /** The shared server if something in this JVM has started it; never starts it. */
+    public static synchronized java.util.Optional<SandboxFhirServer> sharedIfStarted() {
+        return java.util.Optional.ofNullable(sharedServer);
+    }
+
     public static synchronized SandboxFhirServer shared() {
         if (sharedFailure != null) {
             throw new IllegalStateException(

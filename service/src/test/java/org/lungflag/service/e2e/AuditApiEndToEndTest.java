@@ -13,6 +13,7 @@ import java.util.ArrayList;
 import java.util.List;
 import org.hl7.fhir.r4.model.Bundle;
 import org.hl7.fhir.r4.model.Flag;
+import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.MethodOrderer;
 import org.junit.jupiter.api.Order;
@@ -21,11 +22,13 @@ import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.TestMethodOrder;
 import org.lungflag.rules.catalog.Cautions;
 import org.lungflag.rules.catalog.RuleCatalog;
+import org.lungflag.sandbox.fhirserver.SandboxFhirServer;
 import org.lungflag.service.intake.SubscriptionRegistrar;
 import org.lungflag.service.testsupport.ApiClient;
 import org.springframework.beans.factory.annotation.Autowired;
 import org.springframework.boot.test.context.SpringBootTest;
 import org.springframework.boot.test.web.server.LocalServerPort;
+import org.springframework.test.annotation.DirtiesContext;
 import org.springframework.test.context.ActiveProfiles;
 import org.springframework.test.context.DynamicPropertyRegistry;
 import org.springframework.test.context.DynamicPropertySource;
@@ -36,15 +39,19 @@ import org.springframework.test.context.DynamicPropertySource;
  * Expected values: Berlin 2012 (P/F bands, via clinical-reference §2.2), Amato 2015 (driving pressure = plateau −
  * PEEP), Sinha 2009 (ventilatory ratio), ARDSNet (predicted body weight); see {@link AuditScenario}. Data invented.
  */
+@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
 @TestMethodOrder(MethodOrderer.OrderAnnotation.class)
 class AuditApiEndToEndTest {
 
+    /** Its own FHIR server: the statistics below count every firing the service saw. */
+    static final SandboxFhirServer FHIR = SandboxServer.startOwn();
+
     @DynamicPropertySource
     static void sandbox(DynamicPropertyRegistry registry) {
-        SandboxServer.register(registry);
+        SandboxServer.register(registry, FHIR);
         registry.add("lungflag.intake.register-subscriptions", () -> "true");
         // only what this class creates: other classes' records on the shared server stay out of the statistics
         registry.add("lungflag.intake.catch-up-initial-look-back", () -> "1s");
@@ -66,9 +73,14 @@ class AuditApiEndToEndTest {
     AuditScenario.Made improving;
     String badUnit;
 
+    @AfterAll
+    static void stopFhirServer() {
+        FHIR.close();
+    }
+
     @BeforeAll
     void data() {
-        scenario = new AuditScenario();
+        scenario = new AuditScenario(FHIR.baseUrl());
         api = ApiClient.auditor(port);
         await().atMost(Duration.ofSeconds(60)).until(registrar::registered);
         Instant t0 = Instant.now().minus(20, ChronoUnit.HOURS).truncatedTo(ChronoUnit.MINUTES);

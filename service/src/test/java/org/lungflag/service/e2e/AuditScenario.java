@@ -35,9 +35,13 @@ final class AuditScenario {
     final IGenericClient fhir;
 
     AuditScenario() {
+        this(SandboxServer.server().baseUrl());
+    }
+
+    AuditScenario(String fhirBaseUrl) {
         FhirContext ctx = FhirContext.forR4Cached();
         ctx.getRestfulClientFactory().setServerValidationMode(ServerValidationModeEnum.NEVER);
-        this.fhir = ctx.newRestfulGenericClient(SandboxServer.server().baseUrl());
+        this.fhir = ctx.newRestfulGenericClient(fhirBaseUrl);
     }
 
     /** What a scenario patient produced: its id and the PaO2 Observation ids. */

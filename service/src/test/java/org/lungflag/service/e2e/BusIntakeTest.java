@@ -35,6 +35,7 @@ import org.springframework.kafka.core.DefaultKafkaProducerFactory;
 import org.springframework.kafka.core.KafkaTemplate;
 import org.springframework.kafka.test.EmbeddedKafkaBroker;
 import org.springframework.kafka.test.context.EmbeddedKafka;
+import org.springframework.test.annotation.DirtiesContext;
 import org.springframework.test.context.ActiveProfiles;
 import org.springframework.test.context.DynamicPropertyRegistry;
 import org.springframework.test.context.DynamicPropertySource;
@@ -49,6 +50,7 @@ import org.springframework.test.context.DynamicPropertySource;
  * [PUB-2]): PaO2 80 mmHg at FiO2 0.50 with PEEP 10 cmH2O gives P/F 160, the moderate band (100 < P/F ≤ 200). The
  * patients and values are invented. Write-back is silent here: the Observations exist only on the bus.
  */
+@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @SpringBootTest
 @ActiveProfiles("test")
 @EmbeddedKafka(kraft = true, partitions = 3, topics = BusIntakeTest.TOPIC)

@@ -38,6 +38,7 @@ import org.springframework.boot.test.autoconfigure.actuate.observability.AutoCon
 import org.springframework.boot.test.context.SpringBootTest;
 import org.springframework.boot.test.web.server.LocalServerPort;
 import org.springframework.jdbc.core.simple.JdbcClient;
+import org.springframework.test.annotation.DirtiesContext;
 import org.springframework.test.context.ActiveProfiles;
 import org.springframework.test.context.DynamicPropertyRegistry;
 import org.springframework.test.context.DynamicPropertySource;
@@ -50,6 +51,7 @@ import org.springframework.test.context.DynamicPropertySource;
  * clinical-reference §2.2 [PUB-2]): P/F = PaO2/FiO2 with PEEP ≥ 5 cmH2O; 100 < P/F ≤ 200 is the moderate band,
  * P/F ≤ 100 severe, above 300 no band. The data are invented.
  */
+@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
 @AutoConfigureObservability(tracing = false)

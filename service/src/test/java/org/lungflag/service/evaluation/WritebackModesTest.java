@@ -33,6 +33,7 @@ import org.lungflag.service.writeback.OutboxStatus;
 import org.springframework.beans.factory.annotation.Autowired;
 import org.springframework.boot.test.context.SpringBootTest;
 import org.springframework.jdbc.core.simple.JdbcClient;
+import org.springframework.test.annotation.DirtiesContext;
 import org.springframework.test.context.ActiveProfiles;
 import org.springframework.test.context.DynamicPropertyRegistry;
 import org.springframework.test.context.DynamicPropertySource;
@@ -116,6 +117,7 @@ class WritebackModesTest {
     }
 
     @Nested
+    @DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
     @SpringBootTest
     @ActiveProfiles("test")
     @TestPropertySource(
@@ -156,6 +158,7 @@ class WritebackModesTest {
     }
 
     @Nested
+    @DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
     @SpringBootTest
     @ActiveProfiles("test")
     @TestPropertySource(

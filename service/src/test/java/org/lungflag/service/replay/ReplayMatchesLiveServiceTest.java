@@ -31,6 +31,7 @@ import org.lungflag.service.intake.SubscriptionRegistrar;
 import org.springframework.beans.factory.annotation.Autowired;
 import org.springframework.boot.test.context.SpringBootTest;
 import org.springframework.boot.test.web.server.LocalServerPort;
+import org.springframework.test.annotation.DirtiesContext;
 import org.springframework.test.context.ActiveProfiles;
 import org.springframework.test.context.DynamicPropertyRegistry;
 import org.springframework.test.context.DynamicPropertySource;
@@ -44,6 +45,7 @@ import org.springframework.test.context.DynamicPropertySource;
  * <p>Every patient's last blood gas is at the same time (the export's end), so replay's clinical clock ends where
  * the live service's data ended; the live clock advancer is slowed to once an hour so it does not move on past it.
  */
+@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
 class ReplayMatchesLiveServiceTest {
@@ -70,6 +72,8 @@ class ReplayMatchesLiveServiceTest {
         FhirContext ctx = FhirContext.forR4Cached();
         ctx.getRestfulClientFactory()
                 .setServerValidationMode(ca.uhn.fhir.rest.client.api.ServerValidationModeEnum.NEVER);
+        // the scenario's transaction takes the JPA server tens of seconds on a busy 2-core machine
+        ctx.getRestfulClientFactory().setSocketTimeout(180_000);
         IGenericClient fhir = ctx.newRestfulGenericClient(SandboxServer.server().baseUrl());
         await().atMost(Duration.ofSeconds(90)).until(registrar::registered);
         await().atMost(Duration.ofSeconds(60))
