@@ -125,7 +125,7 @@ public final class DemoRun {
                 settings.play().progressEvery());
         PlayResult result = player.play(play, out);
         out.println("Waiting for the service to finish evaluating and writing ...");
-        awaitQuiet(serviceUrl, fhirBase, log);
+        awaitQuiet(serviceUrl, fhirBase, log, result.observationsPosted());
         printFlags(fhirBase);
         out.printf(
                 Locale.ROOT,
@@ -265,8 +265,12 @@ public final class DemoRun {
                 + " see its log: " + log);
     }
 
-    /** Until the service's inbox and outbox stay empty and the Flag count stops changing (at most 10 min). */
-    private void awaitQuiet(String serviceUrl, String fhirBase, Path log) throws InterruptedException {
+    /**
+     * Until the service has received at least every Observation posted, its inbox and outbox stay empty and the Flag
+     * count stops changing (at most 10 min). The FHIR server delivers rest-hooks some time after each write, so empty
+     * backlogs alone could mean "not delivered yet".
+     */
+    private void awaitQuiet(String serviceUrl, String fhirBase, Path log, int posted) throws InterruptedException {
         Instant deadline = Instant.now().plus(Duration.ofMinutes(10));
         int quietRounds = 0;
         long lastFlags = -2;
@@ -276,9 +280,32 @@ public final class DemoRun {
                 throw new DemoException("the Lungflag service stopped (exit " + service.exitValue() + "); see " + log);
             }
             long flags = flagCounts(fhirBase)[0];
-            boolean empty = backlogsEmpty(serviceUrl);
-            quietRounds = empty && flags == lastFlags ? quietRounds + 1 : 0;
+            boolean done = received(serviceUrl) >= posted && backlogsEmpty(serviceUrl);
+            quietRounds = done && flags == lastFlags ? quietRounds + 1 : 0;
             lastFlags = flags;
+        }
+    }
+
+    /** Resources the service has recorded in its inbox (all channels, redeliveries included); -1 if unknown. */
+    private long received(String serviceUrl) {
+        try {
+            HttpResponse<String> r = http.send(
+                    HttpRequest.newBuilder(URI.create(serviceUrl + "/actuator/prometheus"))
+                            .timeout(Duration.ofSeconds(10))
+                            .build(),
+                    HttpResponse.BodyHandlers.ofString());
+            double sum = 0;
+            for (String line : r.body().split("\n")) {
+                if (line.startsWith("lungflag_intake_received_total")) {
+                    sum += Double.parseDouble(line.substring(line.lastIndexOf(' ') + 1));
+                }
+            }
+            return Math.round(sum);
+        } catch (IOException | RuntimeException e) {
+            return -1;
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            return -1;
         }
     }
 
