@@ -66,6 +66,7 @@ public final class DemoRun {
     private volatile SandboxFhirServer server;
     private volatile Process service;
     private ScenarioPlayer player;
+    private final String adminPassword = HexFormat.of().formatHex(randomBytes()).substring(0, 20);
 
     public DemoRun(Settings settings, PrintStream out) {
         this.settings = settings;
@@ -219,6 +220,8 @@ public final class DemoRun {
         // the token stays out of the command line (which other users of the machine can read)
         Map<String, String> env = builder.environment();
         env.put("LUNGFLAG_INTAKE_HOOK_TOKEN", HexFormat.of().formatHex(randomBytes()));
+        // the demo's own admin account: the metrics and health details it reads need a login
+        env.put("LUNGFLAG_SECURITY_ADMIN_PASSWORD", adminPassword);
         try {
             Process process = builder.start();
             return process;
@@ -291,6 +294,7 @@ public final class DemoRun {
         try {
             HttpResponse<String> r = http.send(
                     HttpRequest.newBuilder(URI.create(serviceUrl + "/actuator/prometheus"))
+                            .header("Authorization", basicAuth())
                             .timeout(Duration.ofSeconds(10))
                             .build(),
                     HttpResponse.BodyHandlers.ofString());
@@ -313,6 +317,7 @@ public final class DemoRun {
         try {
             HttpResponse<String> r = http.send(
                     HttpRequest.newBuilder(URI.create(serviceUrl + "/actuator/health"))
+                            .header("Authorization", basicAuth())
                             .timeout(Duration.ofSeconds(10))
                             .build(),
                     HttpResponse.BodyHandlers.ofString());
@@ -345,8 +350,10 @@ public final class DemoRun {
                 + " metrics: " + serviceUrl + "/actuator/prometheus)");
         out.println("  dry run                POST " + serviceUrl + "/api/v1/evaluate (a Bundle of Patient,"
                 + " Observation, Specimen)");
-        if (get(serviceUrl + "/console") == 200) {
-            out.println("  quality console        " + serviceUrl + "/console");
+        int console = get(serviceUrl + "/console");
+        if (console == 200 || console == 302 || console == 401) {
+            out.println("  quality console        " + serviceUrl + "/console (user admin, password " + adminPassword
+                    + ": a demo account of this run only)");
         } else {
             out.println("  quality console        not in this build yet (it will be at " + serviceUrl + "/console)");
         }
@@ -440,6 +447,12 @@ public final class DemoRun {
         } catch (IOException e) {
             return "(cannot read it: " + e.getMessage() + ")";
         }
+    }
+
+    private String basicAuth() {
+        return "Basic "
+                + java.util.Base64.getEncoder()
+                        .encodeToString(("admin:" + adminPassword).getBytes(StandardCharsets.UTF_8));
     }
 
     private static byte[] randomBytes() {
