@@ -29,7 +29,7 @@ public final class SandboxCli {
     }
 
     static SandboxCli withAllCommands() {
-        return new SandboxCli(List.of(new ServeCommand(), new PlayCommand(), new GenerateCommand()));
+        return new SandboxCli(List.of(new DemoCommand(), new ServeCommand(), new PlayCommand(), new GenerateCommand()));
     }
 
     public static void main(String[] args) {
