@@ -59,8 +59,11 @@ public final class OfflineEvaluation {
         List<RuleEvaluation> evaluations = new ArrayList<>();
         List<NormalizedResource> refused = new ArrayList<>();
         List<NormalizedResource> ordered = new ArrayList<>(resources);
-        ordered.sort(Comparator.comparing(
-                NormalizedResource::clinicalTime, Comparator.nullsFirst(Comparator.naturalOrder())));
+        // clinical order; at equal times, resources without a trigger fact first, so a trigger (an evaluation
+        // point) sees the settings charted at its own minute without a re-run (the result is the same either way)
+        ordered.sort(
+                Comparator.comparing(NormalizedResource::clinicalTime, Comparator.nullsFirst(Comparator.naturalOrder()))
+                        .thenComparing(this::hasTrigger));
         for (NormalizedResource r : ordered) {
             if (!r.refusals().isEmpty()) {
                 refused.add(r);
@@ -83,6 +86,15 @@ public final class OfflineEvaluation {
             }
         }
         return new PatientRun(patient.patientId(), evaluations, List.copyOf(episodes.values()), refused);
+    }
+
+    private boolean hasTrigger(NormalizedResource r) {
+        for (var f : r.facts()) {
+            if (engine.triggerKinds().contains(f.kind())) {
+                return true;
+            }
+        }
+        return false;
     }
 
     private static void apply(List<RuleEvaluation> evaluations, Batch batch) {

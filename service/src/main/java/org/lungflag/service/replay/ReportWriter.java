@@ -369,10 +369,17 @@ final class ReportWriter {
                 if (!eps.isEmpty()) {
                     eps.append("; ");
                 }
+                StringBuilder tiers = new StringBuilder();
+                for (TierChange tc : e.tierHistory()) {
+                    if (!tiers.isEmpty()) {
+                        tiers.append(" → ");
+                    }
+                    tiers.append(tc.tier()).append(" (").append(tc.at()).append(")");
+                }
                 eps.append(e.ruleId())
-                        .append(" ")
-                        .append(e.tier())
-                        .append(" from ")
+                        .append(": ")
+                        .append(tiers)
+                        .append(", from ")
                         .append(e.start())
                         .append(e.end() == null ? " (active at end)" : " to " + e.end() + " (" + e.status() + ")");
             }
@@ -431,8 +438,9 @@ final class ReportWriter {
             double hi =
                     pts.stream().mapToDouble(PatientChart.Point::value).max().orElse(1);
             if (hi - lo < 1e-9) {
-                lo -= 1;
-                hi += 1;
+                double pad = Math.max(Math.abs(hi) * 0.1, 0.01);
+                lo -= pad;
+                hi += pad;
             }
             String unit = PatientChart.SERIES.getOrDefault(name, "");
             text(left - 8, top + panelH / 2 + 4, "end", name + (unit.isEmpty() ? "" : " (" + unit + ")"), 12, INK);
