@@ -64,7 +64,8 @@ public final class OfflineEvaluation {
         ordered.sort(
                 Comparator.comparing(NormalizedResource::clinicalTime, Comparator.nullsFirst(Comparator.naturalOrder()))
                         .thenComparing(this::hasTrigger));
-        for (NormalizedResource r : ordered) {
+        for (int i = 0; i < ordered.size(); i++) {
+            NormalizedResource r = ordered.get(i);
             if (!r.refusals().isEmpty()) {
                 refused.add(r);
             }
@@ -73,7 +74,13 @@ public final class OfflineEvaluation {
                         evaluations,
                         evaluator.retract(r.source().resourceType(), r.source().id()));
             } else if (!r.facts().isEmpty()) {
-                apply(evaluations, evaluator.offer(r.source(), r.facts()));
+                if (sameTimeFollows(ordered, i) && notYetEvaluated(evaluator, r.clinicalTime())) {
+                    // a panel charted at one minute: put it on the timeline and let the last resource of that
+                    // minute step the evaluation point, once (offering each would re-run the point per resource)
+                    evaluator.timeline().addResource(r.source(), r.facts());
+                } else {
+                    apply(evaluations, evaluator.offer(r.source(), r.facts()));
+                }
             }
         }
         if (advanceTo != null) {
@@ -86,6 +93,22 @@ public final class OfflineEvaluation {
             }
         }
         return new PatientRun(patient.patientId(), evaluations, List.copyOf(episodes.values()), refused);
+    }
+
+    private static boolean sameTimeFollows(List<NormalizedResource> ordered, int i) {
+        if (i + 1 >= ordered.size()) {
+            return false;
+        }
+        NormalizedResource next = ordered.get(i + 1);
+        return !next.retracted()
+                && !next.facts().isEmpty()
+                && java.util.Objects.equals(next.clinicalTime(), ordered.get(i).clinicalTime());
+    }
+
+    private static boolean notYetEvaluated(PatientEvaluator evaluator, Instant t) {
+        Instant upTo = evaluator.state().evaluatedUpTo();
+        Instant clock = evaluator.state().clock();
+        return t != null && (upTo == null || t.isAfter(upTo)) && (clock == null || t.isAfter(clock));
     }
 
     private boolean hasTrigger(NormalizedResource r) {
