@@ -162,7 +162,8 @@ final class ReportWriter {
             double h = Double.parseDouble(bars.get(i)[2]);
             double w = max > 0 ? (width - label - 90) * h / max : 0;
             int y = 5 + i * rowH;
-            text(label - 8, y + 15, "end", bars.get(i)[0] + " · " + bars.get(i)[1], 12, INK);
+            // tier codes are unique across the catalog, so the code alone names rule and tier
+            text(label - 8, y + 15, "end", bars.get(i)[1], 12, INK);
             html.append(String.format(
                     Locale.ROOT,
                     "<rect x=\"%d\" y=\"%d\" width=\"%.1f\" height=\"%d\" fill=\"%s\" opacity=\"%.2f\"/>",
