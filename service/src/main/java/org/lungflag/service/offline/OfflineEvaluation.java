@@ -59,9 +59,13 @@ public final class OfflineEvaluation {
         List<RuleEvaluation> evaluations = new ArrayList<>();
         List<NormalizedResource> refused = new ArrayList<>();
         List<NormalizedResource> ordered = new ArrayList<>(resources);
-        ordered.sort(Comparator.comparing(
-                NormalizedResource::clinicalTime, Comparator.nullsFirst(Comparator.naturalOrder())));
-        for (NormalizedResource r : ordered) {
+        // clinical order; at equal times, resources without a trigger fact first, so a trigger (an evaluation
+        // point) sees the settings charted at its own minute without a re-run (the result is the same either way)
+        ordered.sort(
+                Comparator.comparing(NormalizedResource::clinicalTime, Comparator.nullsFirst(Comparator.naturalOrder()))
+                        .thenComparing(this::hasTrigger));
+        for (int i = 0; i < ordered.size(); i++) {
+            NormalizedResource r = ordered.get(i);
             if (!r.refusals().isEmpty()) {
                 refused.add(r);
             }
@@ -70,7 +74,13 @@ public final class OfflineEvaluation {
                         evaluations,
                         evaluator.retract(r.source().resourceType(), r.source().id()));
             } else if (!r.facts().isEmpty()) {
-                apply(evaluations, evaluator.offer(r.source(), r.facts()));
+                if (sameTimeFollows(ordered, i) && notYetEvaluated(evaluator, r.clinicalTime())) {
+                    // a panel charted at one minute: put it on the timeline and let the last resource of that
+                    // minute step the evaluation point, once (offering each would re-run the point per resource)
+                    evaluator.timeline().addResource(r.source(), r.facts());
+                } else {
+                    apply(evaluations, evaluator.offer(r.source(), r.facts()));
+                }
             }
         }
         if (advanceTo != null) {
@@ -83,6 +93,31 @@ public final class OfflineEvaluation {
             }
         }
         return new PatientRun(patient.patientId(), evaluations, List.copyOf(episodes.values()), refused);
+    }
+
+    private static boolean sameTimeFollows(List<NormalizedResource> ordered, int i) {
+        if (i + 1 >= ordered.size()) {
+            return false;
+        }
+        NormalizedResource next = ordered.get(i + 1);
+        return !next.retracted()
+                && !next.facts().isEmpty()
+                && java.util.Objects.equals(next.clinicalTime(), ordered.get(i).clinicalTime());
+    }
+
+    private static boolean notYetEvaluated(PatientEvaluator evaluator, Instant t) {
+        Instant upTo = evaluator.state().evaluatedUpTo();
+        Instant clock = evaluator.state().clock();
+        return t != null && (upTo == null || t.isAfter(upTo)) && (clock == null || t.isAfter(clock));
+    }
+
+    private boolean hasTrigger(NormalizedResource r) {
+        for (var f : r.facts()) {
+            if (engine.triggerKinds().contains(f.kind())) {
+                return true;
+            }
+        }
+        return false;
     }
 
     private static void apply(List<RuleEvaluation> evaluations, Batch batch) {

@@ -156,6 +156,10 @@ final class Replay {
         this.sweepValues = sweepValues;
         this.progress = progress;
         this.fhir = Pipelines.fhirContext();
+        // nothing replay writes holds a reference target to contain: skip HAPI's scan for them on every encode
+        fhir.getParserOptions().setAutoContainReferenceTargetsWithNoId(false);
+        FhirContext context = fhir;
+        this.encoders = ThreadLocal.withInitial(context::newJsonParser);
         // lenient like the live service's parser, but quiet: a stray element is not worth a log line per row
         this.parser = fhir.newJsonParser().setParserErrorHandler(new LenientErrorHandler(false));
         this.writer = fhir.newJsonParser();
@@ -545,17 +549,31 @@ final class Replay {
                 List<String> ids = new ArrayList<>(byPatient.keySet());
                 ids.sort(Spill.PATIENT_ORDER);
                 for (String id : ids) {
-                    evaluatePatient(id, byPatient.get(id), indices, advisories, csv);
-                    done++;
-                    progress.evaluating(done, total, false);
+                    normalizeDeferred(byPatient.get(id));
+                }
+                // patients are independent: evaluate a chunk in parallel, then write and count it in order
+                for (int from = 0; from < ids.size(); from += CHUNK) {
+                    List<String> chunk = ids.subList(from, Math.min(ids.size(), from + CHUNK));
+                    List<PatientResult> results = chunk.parallelStream()
+                            .map(id -> compute(id, byPatient.get(id)))
+                            .toList();
+                    for (PatientResult r : results) {
+                        consume(r, indices, advisories, csv);
+                        done++;
+                        progress.evaluating(done, total, false);
+                    }
                 }
             }
         }
         progress.evaluating(done, total, true);
     }
 
-    private void evaluatePatient(String id, PatientData d, Writer indicesOut, Writer advisoriesOut, Writer csv)
-            throws IOException {
+    static final int CHUNK = 64;
+
+    private final ThreadLocal<IParser> encoders;
+
+    /** Observations that reference a separate Specimen, normalized now that every Specimen is known. */
+    private void normalizeDeferred(PatientData d) {
         for (DeferredEntry df : d.deferred) {
             Observation o = (Observation) parser.parseResource(df.json());
             SpecimenLookup lookup =
@@ -583,12 +601,25 @@ final class Replay {
                 d.resources.add(new ResourceEntry(r.patientId(), r.source(), r.retracted(), r.facts()));
             }
         }
+        d.deferred.clear();
+    }
+
+    /** What one patient's evaluation produced, computed in parallel with other patients'. */
+    private record PatientResult(
+            String id,
+            boolean withoutPatientResource,
+            List<NormalizedResource> resources,
+            Instant first,
+            Instant last,
+            Instant end,
+            PatientRun run,
+            List<PatientRun> variantRuns,
+            List<String> indices,
+            List<String> flags) {}
+
+    private PatientResult compute(String id, PatientData d) {
         List<NormalizedResource> resources = latestVersions(id, d.resources);
-        PatientFacts facts = d.facts;
-        if (facts == null) {
-            patientsWithoutPatientResource++;
-            facts = new PatientFacts(id, Sex.UNKNOWN, null);
-        }
+        PatientFacts facts = d.facts == null ? new PatientFacts(id, Sex.UNKNOWN, null) : d.facts;
         Instant first = null;
         Instant last = null;
         for (NormalizedResource r : resources) {
@@ -601,24 +632,48 @@ final class Replay {
             }
         }
         if (last == null) {
+            return new PatientResult(
+                    id, d.facts == null, resources, null, null, null, null, List.of(), List.of(), List.of());
+        }
+        Instant end = exportEnd != null && exportEnd.isAfter(last) ? exportEnd : last;
+        PatientRun run = offline.run(facts, resources, end);
+        IParser encoder = encoders.get();
+        List<String> indices = new ArrayList<>();
+        for (Observation o : offline.indices(run, end)) {
+            indices.add(encoder.encodeResourceToString(o));
+        }
+        List<String> flags = new ArrayList<>();
+        for (Flag f : offline.flags(run, "replay")) {
+            flags.add(encoder.encodeResourceToString(f));
+        }
+        List<PatientRun> variantRuns = new ArrayList<>();
+        for (OfflineEvaluation v : variants) {
+            variantRuns.add(v.run(facts, resources, end));
+        }
+        return new PatientResult(id, d.facts == null, resources, first, last, end, run, variantRuns, indices, flags);
+    }
+
+    private void consume(PatientResult r, Writer indicesOut, Writer advisoriesOut, Writer csv) throws IOException {
+        if (r.withoutPatientResource()) {
+            patientsWithoutPatientResource++;
+        }
+        if (r.run() == null) {
             patientsWithoutData++;
             return;
         }
         patientsEvaluated++;
-        patientDays += Duration.between(first, last).toSeconds() / 86_400.0;
-        Instant end = exportEnd != null && exportEnd.isAfter(last) ? exportEnd : last;
-
-        PatientRun run = offline.run(facts, resources, end);
-        for (Observation o : offline.indices(run, end)) {
-            indicesOut.write(writer.encodeResourceToString(o));
+        patientDays += Duration.between(r.first(), r.last()).toSeconds() / 86_400.0;
+        for (String o : r.indices()) {
+            indicesOut.write(o);
             indicesOut.write('\n');
             indicesWritten++;
         }
-        for (Flag f : offline.flags(run, "replay")) {
-            advisoriesOut.write(writer.encodeResourceToString(f));
+        for (String f : r.flags()) {
+            advisoriesOut.write(f);
             advisoriesOut.write('\n');
             flagsWritten++;
         }
+        PatientRun run = r.run();
         Map<String, Boolean> seenIndex = new HashMap<>();
         for (RuleEvaluation e : run.evaluations()) {
             csv.write(csvRow(e));
@@ -627,20 +682,20 @@ final class Replay {
                 if (seenIndex.put(u.code().code() + "@" + e.at(), Boolean.TRUE) == null) {
                     distributions
                             .computeIfAbsent(u.code().code(), k -> new IndexDistribution(k, u.unit()))
-                            .add(id, e.at().getEpochSecond(), u.value());
+                            .add(r.id(), e.at().getEpochSecond(), u.value());
                 }
             }
         }
         for (RuleTally t : tallies.values()) {
-            t.add(run.evaluations(), run.episodes(), end);
+            t.add(run.evaluations(), run.episodes(), r.end());
         }
-        for (int i = 0; i < variants.size(); i++) {
-            PatientRun v = variants.get(i).run(facts, resources, end);
+        for (int i = 0; i < r.variantRuns().size(); i++) {
+            PatientRun v = r.variantRuns().get(i);
             for (RuleTally t : variantTallies.get(i).values()) {
-                t.add(v.evaluations(), v.episodes(), end);
+                t.add(v.evaluations(), v.episodes(), r.end());
             }
         }
-        chart(id, run, resources, first, end);
+        chart(r.id(), run, r.resources(), r.first(), r.end());
     }
 
     /** One version per resource (the latest; an entered-in-error latest withdraws it), in clinical order. */

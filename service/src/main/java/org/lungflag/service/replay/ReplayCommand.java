@@ -241,7 +241,7 @@ public final class ReplayCommand {
     }
 
     /** Without Spring Boot's logging set-up logback would log everything at DEBUG to stdout: warnings to stderr. */
-    private static void quietLogging() {
+    static void quietLogging() {
         if (!(LoggerFactory.getILoggerFactory() instanceof LoggerContext context)) {
             return;
         }

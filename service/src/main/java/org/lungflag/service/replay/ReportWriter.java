@@ -162,7 +162,8 @@ final class ReportWriter {
             double h = Double.parseDouble(bars.get(i)[2]);
             double w = max > 0 ? (width - label - 90) * h / max : 0;
             int y = 5 + i * rowH;
-            text(label - 8, y + 15, "end", bars.get(i)[0] + " · " + bars.get(i)[1], 12, INK);
+            // tier codes are unique across the catalog, so the code alone names rule and tier
+            text(label - 8, y + 15, "end", bars.get(i)[1], 12, INK);
             html.append(String.format(
                     Locale.ROOT,
                     "<rect x=\"%d\" y=\"%d\" width=\"%.1f\" height=\"%d\" fill=\"%s\" opacity=\"%.2f\"/>",
@@ -369,10 +370,17 @@ final class ReportWriter {
                 if (!eps.isEmpty()) {
                     eps.append("; ");
                 }
+                StringBuilder tiers = new StringBuilder();
+                for (TierChange tc : e.tierHistory()) {
+                    if (!tiers.isEmpty()) {
+                        tiers.append(" → ");
+                    }
+                    tiers.append(tc.tier()).append(" (").append(tc.at()).append(")");
+                }
                 eps.append(e.ruleId())
-                        .append(" ")
-                        .append(e.tier())
-                        .append(" from ")
+                        .append(": ")
+                        .append(tiers)
+                        .append(", from ")
                         .append(e.start())
                         .append(e.end() == null ? " (active at end)" : " to " + e.end() + " (" + e.status() + ")");
             }
@@ -431,8 +439,9 @@ final class ReportWriter {
             double hi =
                     pts.stream().mapToDouble(PatientChart.Point::value).max().orElse(1);
             if (hi - lo < 1e-9) {
-                lo -= 1;
-                hi += 1;
+                double pad = Math.max(Math.abs(hi) * 0.1, 0.01);
+                lo -= pad;
+                hi += pad;
             }
             String unit = PatientChart.SERIES.getOrDefault(name, "");
             text(left - 8, top + panelH / 2 + 4, "end", name + (unit.isEmpty() ? "" : " (" + unit + ")"), 12, INK);

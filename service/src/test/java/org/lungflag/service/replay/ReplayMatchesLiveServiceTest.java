@@ -26,6 +26,9 @@ import org.hl7.fhir.r4.model.Resource;
 import org.hl7.fhir.r4.model.Subscription;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
+import org.lungflag.sandbox.player.PlayOptions;
+import org.lungflag.sandbox.player.ScenarioPlayer;
+import org.lungflag.sandbox.scenario.DemoScenario;
 import org.lungflag.service.e2e.SandboxServer;
 import org.lungflag.service.intake.SubscriptionRegistrar;
 import org.springframework.beans.factory.annotation.Autowired;
@@ -178,6 +181,119 @@ class ReplayMatchesLiveServiceTest {
                     }
                     assertThat(live).isEqualTo(replayed);
                 });
+    }
+
+    /**
+     * The invented demo scenario (sandbox/src/main/resources/scenario, eight patients over 72 h), played onto the
+     * server by the sandbox's own player (times shifted so that it ends now), then exported back and replayed.
+     */
+    @Test
+    void replayOfTheDemoScenarioGivesTheAdvisoriesTheLiveServiceWrote() throws Exception {
+        FhirContext ctx = FhirContext.forR4Cached();
+        ctx.getRestfulClientFactory()
+                .setServerValidationMode(ca.uhn.fhir.rest.client.api.ServerValidationModeEnum.NEVER);
+        IGenericClient fhir = ctx.newRestfulGenericClient(SandboxServer.server().baseUrl());
+        awaitSubscription(fhir);
+        DemoScenario scenario = DemoScenario.load();
+        new ScenarioPlayer(ctx, scenario)
+                .play(
+                        PlayOptions.defaults(java.net.URI.create(
+                                        SandboxServer.server().baseUrl()))
+                                .withSpeed(PlayOptions.FULL_SPEED),
+                        new PrintStream(new ByteArrayOutputStream(), true, StandardCharsets.UTF_8));
+        List<String> patientIds = scenario.lines("Patient.ndjson").stream()
+                .map(l -> ((Patient) ctx.newJsonParser().parseResource(l))
+                        .getIdElement()
+                        .getIdPart())
+                .toList();
+        Path export = tmp.resolve("demo-export");
+        List<String> observations = new ArrayList<>();
+        for (Class<? extends Resource> type : List.of(
+                Patient.class,
+                org.hl7.fhir.r4.model.Encounter.class,
+                org.hl7.fhir.r4.model.Specimen.class,
+                Observation.class)) {
+            List<String> lines = new ArrayList<>();
+            for (String id : patientIds) {
+                Bundle page = type == Patient.class
+                        ? fhir.search()
+                                .forResource(Patient.class)
+                                .where(Patient.RES_ID.exactly().code(id))
+                                .returnBundle(Bundle.class)
+                                .execute()
+                        : fhir.search()
+                                .forResource(type)
+                                .where(new ca.uhn.fhir.rest.gclient.ReferenceClientParam(
+                                                type == org.hl7.fhir.r4.model.Encounter.class ? "subject" : "subject")
+                                        .hasId("Patient/" + id))
+                                .count(1000)
+                                .returnBundle(Bundle.class)
+                                .execute();
+                while (true) {
+                    page.getEntry()
+                            .forEach(e -> lines.add(ctx.newJsonParser().encodeResourceToString(e.getResource())));
+                    if (page.getLink(Bundle.LINK_NEXT) == null) {
+                        break;
+                    }
+                    page = fhir.loadPage().next(page).execute();
+                }
+            }
+            if (type == Observation.class) {
+                observations = lines;
+            }
+            ReplayFixtures.write(export.resolve(type.getSimpleName() + ".ndjson"), lines);
+        }
+        assertThat(observations).hasSize(scenario.lines("Observation.ndjson").size());
+        Path out = tmp.resolve("demo-out");
+        ByteArrayOutputStream err = new ByteArrayOutputStream();
+        int exit = ReplayCommand.run(
+                List.of("--input", export.toString(), "--out", out.toString()),
+                new PrintStream(err, true, StandardCharsets.UTF_8),
+                false);
+        assertThat(exit).as(err.toString(StandardCharsets.UTF_8)).isEqualTo(0);
+        TreeSet<String> replayed = new TreeSet<>();
+        for (String line : Files.readAllLines(out.resolve("advisories.ndjson"))) {
+            replayed.add(key((Flag) ctx.newJsonParser().parseResource(line)));
+        }
+        // the scenario's own expectations: 11 advisories (expected-advisories.csv), some closed, some active
+        assertThat(replayed).hasSize(11);
+        assertThat(replayed).anySatisfy(k -> assertThat(k).contains("INACTIVE"));
+        assertThat(replayed).anySatisfy(k -> assertThat(k).endsWith(" ACTIVE"));
+        await().atMost(Duration.ofSeconds(240))
+                .pollInterval(Duration.ofSeconds(3))
+                .untilAsserted(() -> {
+                    TreeSet<String> live = new TreeSet<>();
+                    for (String id : patientIds) {
+                        fhir.search()
+                                .forResource(Flag.class)
+                                .where(Flag.PATIENT.hasId("Patient/" + id))
+                                .returnBundle(Bundle.class)
+                                .execute()
+                                .getEntry()
+                                .forEach(e -> live.add(key((Flag) e.getResource())));
+                    }
+                    assertThat(live).isEqualTo(replayed);
+                });
+        Files.copy(
+                out.resolve("report.html"),
+                Path.of("target", "replay-demo-report.html"),
+                java.nio.file.StandardCopyOption.REPLACE_EXISTING);
+    }
+
+    private void awaitSubscription(IGenericClient fhir) {
+        await().atMost(Duration.ofSeconds(90)).until(registrar::registered);
+        await().atMost(Duration.ofSeconds(60))
+                .until(() ->
+                        fhir
+                                .search()
+                                .forResource(Subscription.class)
+                                .returnBundle(Bundle.class)
+                                .execute()
+                                .getEntry()
+                                .stream()
+                                .map(e -> (Subscription) e.getResource())
+                                .anyMatch(s -> s.getChannel().getEndpoint().endsWith(":" + port + "/fhir-hook")
+                                        && s.getStatus() == Subscription.SubscriptionStatus.ACTIVE));
     }
 
     /** What must agree: advisory code, patient, onset, resolution (or none) and status. */
