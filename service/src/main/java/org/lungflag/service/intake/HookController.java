@@ -23,6 +23,7 @@ import org.springframework.dao.DataAccessException;
 import org.springframework.http.HttpStatus;
 import org.springframework.http.MediaType;
 import org.springframework.http.ResponseEntity;
+import org.springframework.transaction.TransactionException;
 import org.springframework.web.bind.annotation.DeleteMapping;
 import org.springframework.web.bind.annotation.PathVariable;
 import org.springframework.web.bind.annotation.PostMapping;
@@ -69,7 +70,16 @@ class HookController {
         try {
             body = readBounded(request);
         } catch (BodyTooLarge e) {
-            return refusal(HttpStatus.PAYLOAD_TOO_LARGE, "too-costly", e.getMessage());
+            // recorded (without the body) so the quality team sees it, not only the sender
+            return quarantineAndRefuse(
+                    HttpStatus.PAYLOAD_TOO_LARGE,
+                    "too-costly",
+                    "Observation",
+                    pathId,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook body for Observation/" + pathId + " was not read: " + e.getMessage(),
+                    null);
         } catch (IOException e) {
             return refusal(HttpStatus.BAD_REQUEST, "structure", "The request body could not be read.");
         }
@@ -187,7 +197,7 @@ class HookController {
                     }
                 }
             }
-        } catch (DataAccessException e) {
+        } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
         if (recorded == 0) {
@@ -201,14 +211,19 @@ class HookController {
     private ResponseEntity<String> record(String type, String id, String version, InboxChannel channel, String body) {
         try {
             inbox.add(type, id, version, channel, body);
-        } catch (DataAccessException e) {
+        } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
         signal.recorded();
         return ResponseEntity.ok().build();
     }
 
-    private ResponseEntity<String> databaseUnavailable(DataAccessException e) {
+    /**
+     * The audit database could not record the notification (no connection could be had, or the commit failed): 503 so
+     * the FHIR server retries; nothing was acknowledged. A connection that cannot be opened surfaces as a {@link
+     * TransactionException} from the transaction manager, a failing statement as a {@link DataAccessException}.
+     */
+    private ResponseEntity<String> databaseUnavailable(RuntimeException e) {
         log.error(
                 "could not record a rest-hook notification: the audit database is unavailable ({})",
                 e.getClass().getSimpleName());
@@ -221,6 +236,18 @@ class HookController {
 
     private ResponseEntity<String> quarantineAndRefuse(
             String type, String id, String version, DataQualityReason reason, String detail, String body) {
+        return quarantineAndRefuse(HttpStatus.BAD_REQUEST, "invalid", type, id, version, reason, detail, body);
+    }
+
+    private ResponseEntity<String> quarantineAndRefuse(
+            HttpStatus status,
+            String issueCode,
+            String type,
+            String id,
+            String version,
+            DataQualityReason reason,
+            String detail,
+            String body) {
         try {
             quarantine.add(new Refusal(
                     QuarantineStage.INTAKE,
@@ -233,10 +260,10 @@ class HookController {
                     null,
                     InboxRepository.sha256(body),
                     body));
-        } catch (DataAccessException e) {
+        } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
-        return refusal(HttpStatus.BAD_REQUEST, "invalid", detail);
+        return refusal(status, issueCode, detail);
     }
 
     private static ResponseEntity<String> refusal(HttpStatus status, String code, String detail) {

@@ -167,6 +167,13 @@ public class OutboxDeliverer {
                         e.getResponseBody());
             }
         } catch (RuntimeException e) {
+            // not an answer from the server: a bug or an unexpected state; keep the row, and say where
+            log.warn(
+                    "outbox row {} ({}): unexpected {}",
+                    row.id(),
+                    row.kind(),
+                    e.getClass().getSimpleName(),
+                    e);
             transient_(row, e.getClass().getSimpleName());
         }
     }
@@ -217,10 +224,11 @@ public class OutboxDeliverer {
         String known = jdbc
                 .sql("SELECT flag_version FROM episode WHERE episode_key = :key")
                 .param("key", episodeKey)
-                .query((rs, n) -> rs.getString(1))
+                .query((rs, n) -> java.util.Optional.ofNullable(rs.getString(1)))
                 .list()
                 .stream()
                 .findFirst()
+                .flatMap(v -> v)
                 .orElse(null);
         return known == null || !versionedRef.endsWith("/_history/" + known);
     }
