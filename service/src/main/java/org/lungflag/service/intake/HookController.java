@@ -17,6 +17,7 @@ import org.lungflag.rules.quality.DataQualityReason;
 import org.lungflag.service.audit.QuarantineRepository;
 import org.lungflag.service.audit.QuarantineRepository.Refusal;
 import org.lungflag.service.audit.QuarantineStage;
+import org.lungflag.service.normalize.ObservationMapper;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.dao.DataAccessException;
@@ -66,6 +67,23 @@ class HookController {
 
     @PutMapping("/fhir-hook/Observation/{id}")
     ResponseEntity<String> observation(@PathVariable("id") String pathId, HttpServletRequest request) {
+        if (!ObservationMapper.isFhirId(pathId)) {
+            // not stored as an id (it may be anything); the entry keeps an excerpt of the body instead
+            String body;
+            try {
+                body = readBounded(request);
+            } catch (IOException e) {
+                body = null;
+            }
+            return quarantineAndRefuse(
+                    "Observation",
+                    null,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook path's Observation id is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and"
+                            + " '.').",
+                    body);
+        }
         String body;
         try {
             body = readBounded(request);
@@ -110,6 +128,16 @@ class HookController {
         String version = observation.getIdElement().getVersionIdPart();
         if (version == null && observation.getMeta().hasVersionId()) {
             version = observation.getMeta().getVersionId();
+        }
+        if (version != null && !ObservationMapper.isFhirId(version)) {
+            return quarantineAndRefuse(
+                    "Observation",
+                    pathId,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook body for Observation/" + pathId
+                            + " has a version id that is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and '.').",
+                    body);
         }
         if (bodyId != null && !bodyId.equals(pathId)) {
             return quarantineAndRefuse(
@@ -173,6 +201,22 @@ class HookController {
         try {
             for (Bundle.BundleEntryComponent entry : bundle.getEntry()) {
                 if (entry.getResource() instanceof Observation obs) {
+                    if (!ObservationMapper.isFhirId(obs.getIdElement().getIdPart())
+                            || (obs.getMeta().hasVersionId()
+                                    && !ObservationMapper.isFhirId(obs.getMeta().getVersionId()))) {
+                        quarantine.add(new Refusal(
+                                QuarantineStage.INTAKE,
+                                "Observation",
+                                null,
+                                null,
+                                null,
+                                DataQualityReason.MALFORMED_RESOURCE,
+                                "An Observation in the notification Bundle has no valid FHIR id or version id.",
+                                null,
+                                null,
+                                null));
+                        continue;
+                    }
                     inbox.add(
                             "Observation",
                             obs.getIdElement().getIdPart(),
@@ -188,7 +232,8 @@ class HookController {
                         for (Parameters.ParametersParameterComponent part : event.getPart()) {
                             if ("focus".equals(part.getName()) && part.getValue() instanceof Reference ref) {
                                 var id = ref.getReferenceElement();
-                                if ("Observation".equals(id.getResourceType()) && id.hasIdPart()) {
+                                if ("Observation".equals(id.getResourceType())
+                                        && ObservationMapper.isFhirId(id.getIdPart())) {
                                     inbox.add("Observation", id.getIdPart(), null, InboxChannel.FETCHED, null);
                                     recorded++;
                                 }
@@ -251,9 +296,9 @@ class HookController {
         try {
             quarantine.add(new Refusal(
                     QuarantineStage.INTAKE,
-                    type,
-                    id,
-                    version,
+                    type != null && type.length() <= 64 ? type : null,
+                    ObservationMapper.isFhirId(id) ? id : null,
+                    ObservationMapper.isFhirId(version) ? version : null,
                     null,
                     reason,
                     detail,
