@@ -1,10 +1,10 @@
 package org.lungflag.service.fhirserver;
 
 import ca.uhn.fhir.context.FhirContext;
-import ca.uhn.fhir.context.PerformanceOptionsEnum;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import ca.uhn.fhir.rest.client.api.IRestfulClientFactory;
 import ca.uhn.fhir.rest.client.api.ServerValidationModeEnum;
+import java.time.Clock;
 import org.springframework.context.annotation.Bean;
 import org.springframework.context.annotation.Configuration;
 
@@ -18,20 +18,25 @@ class FhirServerConfiguration {
      */
     @Bean
     FhirContext fhirContext() {
-        FhirContext context = FhirContext.forR4();
-        context.setPerformanceOptions(PerformanceOptionsEnum.DEFERRED_MODEL_SCANNING);
-        context.getParserOptions().setStripVersionsFromReferences(false);
-        return context;
+        return org.lungflag.service.offline.Pipelines.fhirContext();
     }
 
     @Bean
-    IGenericClient fhirClient(FhirContext fhirContext, FhirServerProperties properties) {
+    IGenericClient fhirClient(
+            FhirContext fhirContext, FhirServerProperties properties, FhirAuthProperties auth, Clock clock) {
         IRestfulClientFactory factory = fhirContext.getRestfulClientFactory();
         factory.setServerValidationMode(ServerValidationModeEnum.NEVER);
         factory.setConnectTimeout((int) properties.connectTimeout().toMillis());
         factory.setSocketTimeout((int) properties.readTimeout().toMillis());
         factory.setPoolMaxTotal(32);
         factory.setPoolMaxPerRoute(32);
-        return factory.newGenericClient(properties.base());
+        IGenericClient client = factory.newGenericClient(properties.base());
+        switch (auth.type()) {
+            case BEARER -> client.registerInterceptor(FhirAuthInterceptor.staticToken(auth.token()));
+            case SMART_BACKEND ->
+                client.registerInterceptor(FhirAuthInterceptor.smart(new SmartBackendTokens(auth, clock)));
+            case NONE -> {}
+        }
+        return client;
     }
 }

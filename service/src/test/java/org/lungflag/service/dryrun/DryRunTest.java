@@ -15,6 +15,7 @@ import org.hl7.fhir.r4.model.Flag;
 import org.hl7.fhir.r4.model.OperationOutcome;
 import org.hl7.fhir.r4.model.Provenance;
 import org.junit.jupiter.api.Test;
+import org.lungflag.service.testsupport.TestAccounts;
 import org.lungflag.service.writeback.OutgoingValidator;
 import org.springframework.beans.factory.annotation.Autowired;
 import org.springframework.boot.test.context.SpringBootTest;
@@ -45,6 +46,7 @@ class DryRunTest {
                 .send(
                         HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/api/v1/evaluate"))
                                 .header("Content-Type", "application/fhir+json")
+                                .header("Authorization", TestAccounts.auditor())
                                 .POST(HttpRequest.BodyPublishers.ofString(body))
                                 .build(),
                         HttpResponse.BodyHandlers.ofString());

@@ -32,6 +32,7 @@ import org.junit.jupiter.api.Test;
 import org.lungflag.fhir.profiles.LungflagFhir;
 import org.lungflag.service.intake.CatchUpSearch;
 import org.lungflag.service.intake.SubscriptionRegistrar;
+import org.lungflag.service.testsupport.TestAccounts;
 import org.springframework.beans.factory.annotation.Autowired;
 import org.springframework.boot.test.autoconfigure.actuate.observability.AutoConfigureObservability;
 import org.springframework.boot.test.context.SpringBootTest;
@@ -295,12 +296,14 @@ class LiveServiceEndToEndTest {
         HttpClient http = HttpClient.newHttpClient();
         HttpResponse<String> health = http.send(
                 HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/actuator/health"))
+                        .header("Authorization", TestAccounts.auditor())
                         .build(),
                 HttpResponse.BodyHandlers.ofString());
         assertThat(health.statusCode()).isEqualTo(200);
         assertThat(health.body()).contains("\"fhirServer\"").contains("\"db\"").contains("\"writeBack\"");
         HttpResponse<String> metrics = http.send(
                 HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + "/actuator/prometheus"))
+                        .header("Authorization", TestAccounts.admin())
                         .build(),
                 HttpResponse.BodyHandlers.ofString());
         assertThat(metrics.body())
