@@ -194,12 +194,31 @@ public class InboxProcessor implements SmartLifecycle {
                 byPatient
                         .computeIfAbsent(r.patientId(), p -> new ArrayList<>())
                         .add(new Work(item.id(), r, item.channel().name(), item.bodySha256(), item.receivedAt()));
-            } catch (SpecimenUnavailable | RuntimeException e) {
-                log.warn(
-                        "{} could not be normalized now ({}); it will be retried",
-                        item.reference(),
-                        e.getClass().getSimpleName());
+            } catch (SpecimenUnavailable e) {
+                log.warn("{} could not be normalized now ({}); it will be retried", item.reference(), e.getMessage());
                 retry.add(item.id());
+            } catch (RuntimeException e) {
+                if (transientFailure(e)) {
+                    log.warn(
+                            "{} could not be normalized now ({}); it will be retried",
+                            item.reference(),
+                            e.getClass().getSimpleName());
+                    retry.add(item.id());
+                } else {
+                    // something in this resource the mapper did not expect: retrying cannot help, so it is
+                    // quarantined rather than left to block the inbox
+                    log.error(
+                            "{} could not be normalized ({}); quarantined",
+                            item.reference(),
+                            e.getClass().getSimpleName());
+                    log.debug("{}: normalization failed", item.reference(), e);
+                    finishWithoutPatient(
+                            item,
+                            DataQualityReason.MALFORMED_RESOURCE,
+                            item.reference() + " could not be normalized ("
+                                    + e.getClass().getSimpleName() + "); the service log has the details.",
+                            null);
+                }
             }
         }
         for (Map.Entry<String, List<Work>> e : byPatient.entrySet()) {
@@ -230,6 +249,17 @@ public class InboxProcessor implements SmartLifecycle {
         }
         inbox.release(retry, retryDelay);
         return items.size();
+    }
+
+    /**
+     * A failure that may pass by itself: the FHIR server or the database could not be reached or answered an error.
+     * Anything else comes from the resource itself.
+     */
+    static boolean transientFailure(RuntimeException e) {
+        return e instanceof ca.uhn.fhir.rest.client.exceptions.FhirClientConnectionException
+                || e instanceof ca.uhn.fhir.rest.server.exceptions.BaseServerResponseException
+                || e instanceof org.springframework.dao.DataAccessException
+                || e instanceof org.springframework.transaction.TransactionException;
     }
 
     /** Parses and normalizes one inbox row; rows with nothing to apply to a patient are finished here. */

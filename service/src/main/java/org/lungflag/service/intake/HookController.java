@@ -17,12 +17,14 @@ import org.lungflag.rules.quality.DataQualityReason;
 import org.lungflag.service.audit.QuarantineRepository;
 import org.lungflag.service.audit.QuarantineRepository.Refusal;
 import org.lungflag.service.audit.QuarantineStage;
+import org.lungflag.service.normalize.ObservationMapper;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.dao.DataAccessException;
 import org.springframework.http.HttpStatus;
 import org.springframework.http.MediaType;
 import org.springframework.http.ResponseEntity;
+import org.springframework.transaction.TransactionException;
 import org.springframework.web.bind.annotation.DeleteMapping;
 import org.springframework.web.bind.annotation.PathVariable;
 import org.springframework.web.bind.annotation.PostMapping;
@@ -65,11 +67,37 @@ class HookController {
 
     @PutMapping("/fhir-hook/Observation/{id}")
     ResponseEntity<String> observation(@PathVariable("id") String pathId, HttpServletRequest request) {
+        if (!ObservationMapper.isFhirId(pathId)) {
+            // not stored as an id (it may be anything); the entry keeps an excerpt of the body instead
+            String body;
+            try {
+                body = readBounded(request);
+            } catch (IOException e) {
+                body = null;
+            }
+            return quarantineAndRefuse(
+                    "Observation",
+                    null,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook path's Observation id is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and"
+                            + " '.').",
+                    body);
+        }
         String body;
         try {
             body = readBounded(request);
         } catch (BodyTooLarge e) {
-            return refusal(HttpStatus.PAYLOAD_TOO_LARGE, "too-costly", e.getMessage());
+            // recorded (without the body) so the quality team sees it, not only the sender
+            return quarantineAndRefuse(
+                    HttpStatus.PAYLOAD_TOO_LARGE,
+                    "too-costly",
+                    "Observation",
+                    pathId,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook body for Observation/" + pathId + " was not read: " + e.getMessage(),
+                    null);
         } catch (IOException e) {
             return refusal(HttpStatus.BAD_REQUEST, "structure", "The request body could not be read.");
         }
@@ -100,6 +128,16 @@ class HookController {
         String version = observation.getIdElement().getVersionIdPart();
         if (version == null && observation.getMeta().hasVersionId()) {
             version = observation.getMeta().getVersionId();
+        }
+        if (version != null && !ObservationMapper.isFhirId(version)) {
+            return quarantineAndRefuse(
+                    "Observation",
+                    pathId,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook body for Observation/" + pathId
+                            + " has a version id that is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and '.').",
+                    body);
         }
         if (bodyId != null && !bodyId.equals(pathId)) {
             return quarantineAndRefuse(
@@ -163,6 +201,22 @@ class HookController {
         try {
             for (Bundle.BundleEntryComponent entry : bundle.getEntry()) {
                 if (entry.getResource() instanceof Observation obs) {
+                    if (!ObservationMapper.isFhirId(obs.getIdElement().getIdPart())
+                            || (obs.getMeta().hasVersionId()
+                                    && !ObservationMapper.isFhirId(obs.getMeta().getVersionId()))) {
+                        quarantine.add(new Refusal(
+                                QuarantineStage.INTAKE,
+                                "Observation",
+                                null,
+                                null,
+                                null,
+                                DataQualityReason.MALFORMED_RESOURCE,
+                                "An Observation in the notification Bundle has no valid FHIR id or version id.",
+                                null,
+                                null,
+                                null));
+                        continue;
+                    }
                     inbox.add(
                             "Observation",
                             obs.getIdElement().getIdPart(),
@@ -178,7 +232,8 @@ class HookController {
                         for (Parameters.ParametersParameterComponent part : event.getPart()) {
                             if ("focus".equals(part.getName()) && part.getValue() instanceof Reference ref) {
                                 var id = ref.getReferenceElement();
-                                if ("Observation".equals(id.getResourceType()) && id.hasIdPart()) {
+                                if ("Observation".equals(id.getResourceType())
+                                        && ObservationMapper.isFhirId(id.getIdPart())) {
                                     inbox.add("Observation", id.getIdPart(), null, InboxChannel.FETCHED, null);
                                     recorded++;
                                 }
@@ -187,7 +242,7 @@ class HookController {
                     }
                 }
             }
-        } catch (DataAccessException e) {
+        } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
         if (recorded == 0) {
@@ -201,14 +256,19 @@ class HookController {
     private ResponseEntity<String> record(String type, String id, String version, InboxChannel channel, String body) {
         try {
             inbox.add(type, id, version, channel, body);
-        } catch (DataAccessException e) {
+        } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
         signal.recorded();
         return ResponseEntity.ok().build();
     }
 
-    private ResponseEntity<String> databaseUnavailable(DataAccessException e) {
+    /**
+     * The audit database could not record the notification (no connection could be had, or the commit failed): 503 so
+     * the FHIR server retries; nothing was acknowledged. A connection that cannot be opened surfaces as a {@link
+     * TransactionException} from the transaction manager, a failing statement as a {@link DataAccessException}.
+     */
+    private ResponseEntity<String> databaseUnavailable(RuntimeException e) {
         log.error(
                 "could not record a rest-hook notification: the audit database is unavailable ({})",
                 e.getClass().getSimpleName());
@@ -221,22 +281,34 @@ class HookController {
 
     private ResponseEntity<String> quarantineAndRefuse(
             String type, String id, String version, DataQualityReason reason, String detail, String body) {
+        return quarantineAndRefuse(HttpStatus.BAD_REQUEST, "invalid", type, id, version, reason, detail, body);
+    }
+
+    private ResponseEntity<String> quarantineAndRefuse(
+            HttpStatus status,
+            String issueCode,
+            String type,
+            String id,
+            String version,
+            DataQualityReason reason,
+            String detail,
+            String body) {
         try {
             quarantine.add(new Refusal(
                     QuarantineStage.INTAKE,
-                    type,
-                    id,
-                    version,
+                    type != null && type.length() <= 64 ? type : null,
+                    ObservationMapper.isFhirId(id) ? id : null,
+                    ObservationMapper.isFhirId(version) ? version : null,
                     null,
                     reason,
                     detail,
                     null,
                     InboxRepository.sha256(body),
                     body));
-        } catch (DataAccessException e) {
+        } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
-        return refusal(HttpStatus.BAD_REQUEST, "invalid", detail);
+        return refusal(status, issueCode, detail);
     }
 
     private static ResponseEntity<String> refusal(HttpStatus status, String code, String detail) {

@@ -76,19 +76,22 @@ public class InboxRepository {
 
     /**
      * Claims up to {@code limit} waiting rows for {@code owner}, oldest first. A claim expires after {@code lease}
-     * so rows of a crashed instance are picked up again.
+     * so rows of a crashed instance are picked up again. Rows still claimed by {@code owner} itself are taken again
+     * at once: the owner's one processing thread asks only when its previous batch is finished, so such a row is one
+     * whose outcome could not be recorded (the database went away between the claim and the commit or release).
      */
     @Transactional
     public List<InboxItem> claim(String owner, int limit, Duration lease) {
         Instant now = clock.instant();
         List<Long> ids = jdbc.sql("""
                         SELECT id FROM intake_inbox
-                         WHERE status = 'NEW' OR (status = 'CLAIMED' AND claimed_until < :now)
+                         WHERE status = 'NEW' OR (status = 'CLAIMED' AND (claimed_until < :now OR claimed_by = :owner))
                          ORDER BY id
                          FETCH FIRST :limit ROWS ONLY
                          FOR UPDATE SKIP LOCKED
                         """)
                 .param("now", Timestamp.from(now))
+                .param("owner", owner)
                 .param("limit", limit)
                 .query(Long.class)
                 .list();

@@ -39,7 +39,11 @@ public final class FhirSpecimenLookup implements SpecimenLookup {
                     .withId(new IdType(reference).getIdPart())
                     .execute();
             facts = Optional.of(ObservationMapper.facts(s));
-        } catch (ResourceNotFoundException | ResourceGoneException e) {
+        } catch (ResourceNotFoundException
+                | ResourceGoneException
+                | ca.uhn.fhir.rest.server.exceptions.InvalidRequestException e) {
+            // gone, or a reference the server says is no valid id: it says nothing about the specimen, and retrying
+            // would not change that
             facts = Optional.empty();
         } catch (RuntimeException e) {
             throw new SpecimenUnavailable(reference, e);

@@ -51,6 +51,11 @@ public final class ObservationMapper {
 
     private static final String OBSERVATION_CATEGORY = "http://terminology.hl7.org/CodeSystem/observation-category";
 
+    /** FHIR R4 {@code id} (and {@code versionId}) syntax, https://hl7.org/fhir/R4/datatypes.html#id. */
+    private static final java.util.regex.Pattern FHIR_ID = java.util.regex.Pattern.compile("[A-Za-z0-9\\-.]{1,64}");
+
+    static final String FHIR_ID_RULE = "1 to 64 of A-Z, a-z, 0-9, '-' and '.'";
+
     private final CodeMap codes;
     private final Duration futureSkew;
 
@@ -82,8 +87,24 @@ public final class ObservationMapper {
                     DataQualityReason.MALFORMED_RESOURCE,
                     "The Observation has no id, so it cannot be traced.");
         }
+        if (!isFhirId(id) || (version != null && !isFhirId(version))) {
+            return new Refused(
+                    null,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The Observation's id or version is not a valid FHIR id (" + FHIR_ID_RULE
+                            + "), so it cannot be traced.");
+        }
         SourceRef source = SourceRef.observation(id, version);
         String patientId = patientId(obs.getSubject());
+        if (patientId != null && !isFhirId(patientId)) {
+            return new Refused(
+                    source,
+                    null,
+                    DataQualityReason.MISSING_SUBJECT,
+                    "Observation/" + id + " has a subject reference whose Patient id is not a valid FHIR id ("
+                            + FHIR_ID_RULE + ").");
+        }
 
         if (obs.getStatus() == Observation.ObservationStatus.ENTEREDINERROR) {
             return new Retracted(source, patientId);
@@ -344,6 +365,11 @@ public final class ObservationMapper {
     }
 
     /** {@code Patient/123} or an absolute URL ending in it; anything else is not a patient subject. */
+    /** Whether {@code s} is a valid FHIR R4 id (resource ids and version ids alike). */
+    public static boolean isFhirId(String s) {
+        return s != null && FHIR_ID.matcher(s).matches();
+    }
+
     static String patientId(Reference subject) {
         if (subject == null || !subject.hasReference()) {
             return null;
@@ -421,6 +447,9 @@ public final class ObservationMapper {
             return null;
         }
         var id = ref.getReferenceElement();
+        if (!"Specimen".equals(id.getResourceType()) || !isFhirId(id.getIdPart())) {
+            return null; // not a reference to a Specimen that could be read: the code's own specimen axis decides
+        }
         return lookup.lookup(id.getResourceType() + "/" + id.getIdPart()).orElse(null);
     }
 

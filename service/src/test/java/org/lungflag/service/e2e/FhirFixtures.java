@@ -17,11 +17,11 @@ import org.lungflag.fhir.profiles.LungflagFhir;
  * verified input codes (clinical-reference §11): 2703-7 PaO2, 2019-8 PaCO2, 19994-3 FiO2 setting, 76248-4 PEEP,
  * 8302-2 body height.
  */
-final class FhirFixtures {
+public final class FhirFixtures {
 
     private FhirFixtures() {}
 
-    static Patient patient(String id, AdministrativeGender gender, String birthDate) {
+    public static Patient patient(String id, AdministrativeGender gender, String birthDate) {
         Patient p = new Patient();
         p.setId(id);
         p.setGender(gender);
@@ -29,7 +29,8 @@ final class FhirFixtures {
         return p;
     }
 
-    static Observation quantity(String patientId, String system, String code, double value, String ucum, Instant at) {
+    public static Observation quantity(
+            String patientId, String system, String code, double value, String ucum, Instant at) {
         Observation o = new Observation();
         o.setStatus(Observation.ObservationStatus.FINAL);
         o.setCode(new CodeableConcept(new Coding(system, code, null)));
@@ -42,18 +43,18 @@ final class FhirFixtures {
         return o;
     }
 
-    static Observation loinc(String patientId, String code, double value, String ucum, Instant at) {
+    public static Observation loinc(String patientId, String code, double value, String ucum, Instant at) {
         return quantity(patientId, LungflagFhir.CodeSystems.LOINC, code, value, ucum, at);
     }
 
     /** A device value marked as a setting (conformance package value-role category). */
-    static Observation setting(String patientId, String code, double value, String ucum, Instant at) {
+    public static Observation setting(String patientId, String code, double value, String ucum, Instant at) {
         Observation o = loinc(patientId, code, value, ucum, at);
         o.addCategory(new CodeableConcept(new Coding(LungflagFhir.CodeSystems.VALUE_ROLE, "setting", null)));
         return o;
     }
 
-    static Observation support(String patientId, String mode, Instant at) {
+    public static Observation support(String patientId, String mode, Instant at) {
         Observation o = new Observation();
         o.setStatus(Observation.ObservationStatus.FINAL);
         o.setCode(new CodeableConcept(new Coding(LungflagFhir.CodeSystems.INPUT_KIND, "respiratory-support", null)));

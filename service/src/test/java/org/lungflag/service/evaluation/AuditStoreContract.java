@@ -186,6 +186,23 @@ abstract class AuditStoreContract {
     }
 
     @Test
+    void rowsAnOwnerCouldNotFinishAreTakenAgainByItAtOnceAndByOthersOnlyAfterTheLease() {
+        String owner = "stranded-" + UUID.randomUUID();
+        long id = inbox.add("Observation", "stranded-" + UUID.randomUUID(), "1", InboxChannel.REST_HOOK, "{}");
+        List<Long> first = inbox.claim(owner, 500, Duration.ofMinutes(10)).stream()
+                .map(InboxItem::id)
+                .toList();
+        assertThat(first).contains(id);
+        // neither done nor released (the database failed before the outcome was recorded)
+        assertThat(inbox.claim("someone-else-" + UUID.randomUUID(), 500, Duration.ofMinutes(10)).stream()
+                        .map(InboxItem::id))
+                .doesNotContain(id);
+        assertThat(inbox.claim(owner, 500, Duration.ofMinutes(10)).stream().map(InboxItem::id))
+                .contains(id);
+        inbox.markDone(List.of(id));
+    }
+
+    @Test
     void theOutboxDeliversAnEpisodesRowsInOrder() {
         String key = "order-" + UUID.randomUUID();
         long first = outbox.add(OutboxKind.FLAG, key, "p-order", null, "{}", false);

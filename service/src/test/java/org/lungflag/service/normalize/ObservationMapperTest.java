@@ -109,6 +109,28 @@ class ObservationMapperTest {
     }
 
     @Test
+    void refusesASubjectWhoseIdIsNotAFhirIdWithoutRepeatingIt() throws Exception {
+        // FHIR R4 id: 1-64 of A-Z a-z 0-9 - . (https://hl7.org/fhir/R4/datatypes.html#id)
+        String json = obs(LOINC_PAO2, MMHG_80).replace("Patient/p1", "Patient/" + "x".repeat(65));
+        Refused r = (Refused) map(json);
+        assertThat(r.reason()).isEqualTo(DataQualityReason.MISSING_SUBJECT);
+        assertThat(r.patientId()).isNull();
+        assertThat(r.detail()).contains("not a valid FHIR id").doesNotContain("xxxx");
+    }
+
+    @Test
+    void neverLooksUpASpecimenReferenceThatIsNoFhirId() throws Exception {
+        String json = obs(
+                "{\"system\":\"http://loinc.org\",\"code\":\"11556-8\"}",
+                MMHG_80 + ",\"specimen\":{\"reference\":\"Specimen/a b\"}");
+        SpecimenLookup lookup = ref -> {
+            throw new AssertionError("looked up " + ref);
+        };
+        Usable u = (Usable) mapper.map(parse(json), NOW, lookup);
+        assertThat(u.readings()).isNotEmpty();
+    }
+
+    @Test
     void resolvesAReferencedArterialSpecimen() throws Exception {
         String json = obs(
                 "{\"system\":\"http://loinc.org\",\"code\":\"11556-8\"}",
