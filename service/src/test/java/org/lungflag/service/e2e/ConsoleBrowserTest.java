@@ -218,8 +218,8 @@ class ConsoleBrowserTest {
                 .contains("onset")
                 .contains("escalated")
                 .contains(worsening.firstPao2() + "/_history/1")
-                .contains("PAO2 80.0 mm[Hg]")
-                .contains("PF_RATIO = 160.00");
+                .contains("PaO2 80 mmHg")
+                .contains("PaO2/FiO2 ratio = 160 mmHg (formula pf-ratio v");
         String episodeUrl = browser.getCurrentUrl();
         await().atMost(Duration.ofSeconds(60)).untilAsserted(() -> {
             browser.get(episodeUrl);
@@ -262,7 +262,7 @@ class ConsoleBrowserTest {
                 .perform();
         wait.until(d -> d.getCurrentUrl().contains("/console/evaluations/"));
         assertThat(text(By.id("inputs"))).contains(worsening.firstPao2() + "/_history/1");
-        assertThat(text(By.id("indices"))).contains("160.00");
+        assertThat(text(By.id("indices"))).contains("PaO2/FiO2 ratio").contains("160 mmHg");
         assertThat(text(By.id("parameters"))).contains("pf_moderate_max");
         assertCaution();
         screenshot("06-evaluation");
