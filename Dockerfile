@@ -57,7 +57,7 @@ HEALTHCHECK --interval=15s --timeout=6s --start-period=180s --retries=6 \
   CMD ["java", "-Xmx16m", "-XX:TieredStopAtLevel=1", "-cp", "/opt/lungflag-probe", \
        "org.lungflag.service.deploy.HttpProbe", "http://127.0.0.1:8080/actuator/health", "5"]
 
-# --- the demo scenario loader (the scenario and its player come with the sandbox's demo) --------------------
+# --- the demo scenario loader: the sandbox executable, whose "play" posts the invented scenario -------------
 FROM ${JRE_IMAGE} AS demo-loader
 RUN groupadd --system --gid 10001 lungflag \
  && useradd --system --uid 10001 --gid lungflag --home-dir /app --shell /usr/sbin/nologin lungflag

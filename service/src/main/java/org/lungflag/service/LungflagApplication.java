@@ -26,6 +26,11 @@ import org.springframework.scheduling.annotation.EnableScheduling;
 public class LungflagApplication {
 
     public static void main(String[] args) {
+        if (args.length > 0 && args[0].equals("replay")) {
+            // the offline replay: no Spring context, no web server, no database
+            org.lungflag.service.replay.ReplayCommand.main(java.util.Arrays.copyOfRange(args, 1, args.length));
+            return;
+        }
         SpringApplication.run(LungflagApplication.class, args);
     }
 }

@@ -74,4 +74,17 @@ final class CommandOptions {
         throw new UsageException(command + ": option '--" + name + "' must be a whole number from " + min + " to " + max
                 + ", was '" + text + "'");
     }
+
+    /** The whole number given for {@code name} (any long); {@code fallback} if absent. */
+    long longNumber(String name, long fallback) {
+        String text = values.get(name);
+        if (text == null) {
+            return fallback;
+        }
+        try {
+            return Long.parseLong(text.trim());
+        } catch (NumberFormatException e) {
+            throw new UsageException(command + ": option '--" + name + "' must be a whole number, was '" + text + "'");
+        }
+    }
 }

@@ -29,7 +29,7 @@ public final class SandboxCli {
     }
 
     static SandboxCli withAllCommands() {
-        return new SandboxCli(List.of(new ServeCommand()));
+        return new SandboxCli(List.of(new ServeCommand(), new PlayCommand(), new GenerateCommand()));
     }
 
     public static void main(String[] args) {
@@ -73,8 +73,8 @@ public final class SandboxCli {
                 .append("Commands:")
                 .append(System.lineSeparator());
         commands.values()
-                .forEach(command -> usage.append(String.format("  %-6s %s%n", command.name(), command.summary())));
-        usage.append(String.format("  %-6s %s%n", "help", "show this message"));
+                .forEach(command -> usage.append(String.format("  %-8s %s%n", command.name(), command.summary())));
+        usage.append(String.format("  %-8s %s%n", "help", "show this message"));
         commands.values()
                 .forEach(command -> usage.append(System.lineSeparator())
                         .append(command.usage())

@@ -4,12 +4,10 @@ import java.util.LinkedHashMap;
 import java.util.Map;
 import org.lungflag.rules.catalog.ParameterOverrides;
 import org.lungflag.rules.catalog.RuleCatalog;
-import org.lungflag.rules.engine.CalculatorIndexProvider;
-import org.lungflag.rules.engine.EngineSettings;
 import org.lungflag.rules.engine.RuleEngine;
 import org.lungflag.rules.index.SiteParameters;
-import org.lungflag.rules.pairing.PairingSettings;
 import org.lungflag.service.offline.OfflineEvaluation;
+import org.lungflag.service.offline.Pipelines;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.context.annotation.Bean;
@@ -23,8 +21,7 @@ class EngineConfiguration {
 
     @Bean
     RuleCatalog ruleCatalog(EvaluationProperties properties) {
-        RuleCatalog catalog =
-                properties.catalog() == null ? RuleCatalog.loadDefault() : RuleCatalog.load(properties.catalog());
+        RuleCatalog catalog = Pipelines.catalog(properties.catalog());
         log.info("rule catalog {}: {} rules", catalog.origin(), catalog.rules().size());
         return catalog;
     }
@@ -37,7 +34,7 @@ class EngineConfiguration {
 
     @Bean
     SiteParameters siteParameters(EvaluationProperties properties) {
-        return SiteParameters.defaults().withBarometricPressure(properties.barometricPressure());
+        return Pipelines.siteParameters(properties);
     }
 
     @Bean
@@ -48,10 +45,6 @@ class EngineConfiguration {
     @Bean
     RuleEngine ruleEngine(
             RuleCatalog catalog, ParameterOverrides overrides, SiteParameters site, EvaluationProperties properties) {
-        EngineSettings settings = new EngineSettings(
-                new PairingSettings(properties.settingLookBack(), properties.measurementLookBack()),
-                properties.displayZone(),
-                EngineSettings.defaults().checkpointEvery());
-        return new RuleEngine(catalog, overrides, new CalculatorIndexProvider(site), settings);
+        return Pipelines.engine(catalog, overrides, site, properties);
     }
 }

@@ -1,7 +1,6 @@
 package org.lungflag.service.fhirserver;
 
 import ca.uhn.fhir.context.FhirContext;
-import ca.uhn.fhir.context.PerformanceOptionsEnum;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import ca.uhn.fhir.rest.client.api.IRestfulClientFactory;
 import ca.uhn.fhir.rest.client.api.ServerValidationModeEnum;
@@ -19,10 +18,7 @@ class FhirServerConfiguration {
      */
     @Bean
     FhirContext fhirContext() {
-        FhirContext context = FhirContext.forR4();
-        context.setPerformanceOptions(PerformanceOptionsEnum.DEFERRED_MODEL_SCANNING);
-        context.getParserOptions().setStripVersionsFromReferences(false);
-        return context;
+        return org.lungflag.service.offline.Pipelines.fhirContext();
     }
 
     @Bean

@@ -1,10 +1,9 @@
 package org.lungflag.service.normalize;
 
 import ca.uhn.fhir.context.FhirContext;
-import java.util.Optional;
-import org.lungflag.rules.units.MeasurementNormalizer;
 import org.lungflag.service.conformance.ConformancePackage;
 import org.lungflag.service.intake.IntakeProperties;
+import org.lungflag.service.offline.Pipelines;
 import org.springframework.context.annotation.Bean;
 import org.springframework.context.annotation.Configuration;
 
@@ -13,16 +12,16 @@ class NormalizeConfiguration {
 
     @Bean
     CodeMap codeMap(FhirContext fhir, ConformancePackage conformance, NormalizeProperties properties) {
-        return SiteCodeMap.load(fhir, CodeMap.fromPackage(conformance), Optional.ofNullable(properties.conceptMap()));
+        return Pipelines.codeMap(fhir, conformance, properties.conceptMap());
     }
 
     @Bean
-    ObservationMapper observationMapper(CodeMap codes, IntakeProperties intake) {
-        return new ObservationMapper(codes, intake.futureSkew());
+    Normalizer normalizer(CodeMap codes, IntakeProperties intake) {
+        return Pipelines.normalizer(codes, intake.futureSkew());
     }
 
     @Bean
-    Normalizer normalizer(ObservationMapper mapper) {
-        return new Normalizer(mapper, new MeasurementNormalizer());
+    ObservationMapper observationMapper(Normalizer normalizer) {
+        return normalizer.mapper();
     }
 }
