@@ -38,6 +38,7 @@ import org.openqa.selenium.support.ui.WebDriverWait;
 import org.springframework.beans.factory.annotation.Autowired;
 import org.springframework.boot.test.context.SpringBootTest;
 import org.springframework.boot.test.web.server.LocalServerPort;
+import org.springframework.test.annotation.DirtiesContext;
 import org.springframework.test.context.ActiveProfiles;
 import org.springframework.test.context.DynamicPropertyRegistry;
 import org.springframework.test.context.DynamicPropertySource;
@@ -51,6 +52,7 @@ import org.springframework.test.context.DynamicPropertySource;
 @RequiresChromium
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
+@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
 @TestMethodOrder(MethodOrderer.OrderAnnotation.class)
 class ConsoleBrowserTest {
@@ -71,6 +73,7 @@ class ConsoleBrowserTest {
     @Autowired
     SubscriptionRegistrar registrar;
 
+    AuditScenario scenario;
     ChromeDriver browser;
     WebDriverWait wait;
     AuditScenario.Made worsening;
@@ -79,7 +82,7 @@ class ConsoleBrowserTest {
 
     @BeforeAll
     void dataAndBrowser() throws IOException {
-        AuditScenario scenario = new AuditScenario();
+        scenario = new AuditScenario();
         ApiClient api = ApiClient.auditor(port);
         await().atMost(Duration.ofSeconds(60)).until(registrar::registered);
         Instant t0 = Instant.now().minus(20, ChronoUnit.HOURS).truncatedTo(ChronoUnit.MINUTES);
@@ -117,6 +120,9 @@ class ConsoleBrowserTest {
     void closeBrowser() {
         if (browser != null) {
             browser.quit();
+        }
+        if (scenario != null) {
+            AuditScenario.deleteSubscriptionsOf(scenario, port);
         }
     }
 
