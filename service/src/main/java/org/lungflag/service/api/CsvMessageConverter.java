@@ -58,7 +58,15 @@ class CsvMessageConverter extends AbstractGenericHttpMessageConverter<List<?>> {
             line(w, components, row);
         }
         if (components == null) {
-            w.write("\r\n");
+            // an empty list: still the header, from the declared element type (List<SomeRecord>)
+            if (type instanceof java.lang.reflect.ParameterizedType p
+                    && p.getActualTypeArguments().length == 1
+                    && p.getActualTypeArguments()[0] instanceof Class<?> element
+                    && element.isRecord()) {
+                line(w, element.getRecordComponents(), null);
+            } else {
+                w.write("\r\n");
+            }
         }
         w.flush();
     }

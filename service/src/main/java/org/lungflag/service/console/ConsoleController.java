@@ -20,6 +20,7 @@ import org.lungflag.service.api.OverviewService;
 import org.lungflag.service.api.RuleCatalogView;
 import org.lungflag.service.api.StatisticsService;
 import org.lungflag.service.evaluation.EvaluationMode;
+import org.lungflag.service.security.SecurityProperties;
 import org.springframework.http.HttpStatus;
 import org.springframework.security.core.Authentication;
 import org.springframework.stereotype.Controller;
@@ -44,24 +45,28 @@ class ConsoleController {
     private final RuleCatalogView catalog;
     private final StatisticsService statistics;
     private final ExplanationService explanations;
+    private final boolean localLogin;
 
     ConsoleController(
             AuditQueries queries,
             OverviewService overview,
             RuleCatalogView catalog,
             StatisticsService statistics,
-            ExplanationService explanations) {
+            ExplanationService explanations,
+            SecurityProperties security) {
         this.queries = queries;
         this.overview = overview;
         this.catalog = catalog;
         this.statistics = statistics;
         this.explanations = explanations;
+        this.localLogin = security.mode() == SecurityProperties.Mode.LOCAL;
     }
 
     @ModelAttribute
     void common(Model model, Authentication who) {
         model.addAttribute("generalCaution", Cautions.GENERAL);
         model.addAttribute("chartJs", CHART_JS);
+        model.addAttribute("localLogin", localLogin);
         if (who != null) {
             model.addAttribute("user", who.getName());
             model.addAttribute(

@@ -113,4 +113,19 @@ final class AuditScenario {
         o.getValueQuantity().setCode("mmHg");
         return create(o);
     }
+
+    /** Other classes share the sandbox: stop its deliveries to this context before the context is closed. */
+    static void deleteSubscriptionsOf(AuditScenario scenario, int port) {
+        org.hl7.fhir.r4.model.Bundle subs = scenario.fhir
+                .search()
+                .forResource(org.hl7.fhir.r4.model.Subscription.class)
+                .returnBundle(org.hl7.fhir.r4.model.Bundle.class)
+                .execute();
+        for (var entry : subs.getEntry()) {
+            var s = (org.hl7.fhir.r4.model.Subscription) entry.getResource();
+            if (s.getChannel().getEndpoint().endsWith(":" + port + "/fhir-hook")) {
+                scenario.fhir.delete().resource(s).execute();
+            }
+        }
+    }
 }

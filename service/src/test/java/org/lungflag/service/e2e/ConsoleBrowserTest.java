@@ -53,6 +53,7 @@ import org.springframework.test.context.DynamicPropertySource;
 @DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
+@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
 @TestMethodOrder(MethodOrderer.OrderAnnotation.class)
 class ConsoleBrowserTest {
@@ -73,6 +74,7 @@ class ConsoleBrowserTest {
     @Autowired
     SubscriptionRegistrar registrar;
 
+    AuditScenario scenario;
     ChromeDriver browser;
     WebDriverWait wait;
     AuditScenario.Made worsening;
@@ -81,7 +83,7 @@ class ConsoleBrowserTest {
 
     @BeforeAll
     void dataAndBrowser() throws IOException {
-        AuditScenario scenario = new AuditScenario();
+        scenario = new AuditScenario();
         ApiClient api = ApiClient.auditor(port);
         await().atMost(Duration.ofSeconds(60)).until(registrar::registered);
         Instant t0 = Instant.now().minus(20, ChronoUnit.HOURS).truncatedTo(ChronoUnit.MINUTES);
@@ -119,6 +121,9 @@ class ConsoleBrowserTest {
     void closeBrowser() {
         if (browser != null) {
             browser.quit();
+        }
+        if (scenario != null) {
+            AuditScenario.deleteSubscriptionsOf(scenario, port);
         }
     }
 
@@ -220,8 +225,8 @@ class ConsoleBrowserTest {
                 .contains("onset")
                 .contains("escalated")
                 .contains(worsening.firstPao2() + "/_history/1")
-                .contains("PAO2 80.0 mm[Hg]")
-                .contains("PF_RATIO = 160.00");
+                .contains("PaO2 80 mmHg")
+                .contains("PaO2/FiO2 ratio = 160 mmHg (formula pf-ratio v");
         String episodeUrl = browser.getCurrentUrl();
         await().atMost(Duration.ofSeconds(60)).untilAsserted(() -> {
             browser.get(episodeUrl);
@@ -264,7 +269,7 @@ class ConsoleBrowserTest {
                 .perform();
         wait.until(d -> d.getCurrentUrl().contains("/console/evaluations/"));
         assertThat(text(By.id("inputs"))).contains(worsening.firstPao2() + "/_history/1");
-        assertThat(text(By.id("indices"))).contains("160.00");
+        assertThat(text(By.id("indices"))).contains("PaO2/FiO2 ratio").contains("160 mmHg");
         assertThat(text(By.id("parameters"))).contains("pf_moderate_max");
         assertCaution();
         screenshot("06-evaluation");
