@@ -50,7 +50,6 @@ import org.springframework.test.context.DynamicPropertySource;
  * under {@code service/target/screenshots/}. Clinical values: Berlin 2012 bands (P/F 160 moderate, 90 severe).
  */
 @RequiresChromium
-@DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
 @SpringBootTest(webEnvironment = SpringBootTest.WebEnvironment.DEFINED_PORT)
 @ActiveProfiles("test")
 @DirtiesContext(classMode = DirtiesContext.ClassMode.AFTER_CLASS)
