@@ -29,6 +29,7 @@ import org.lungflag.rules.engine.RuleEvaluation;
 import org.lungflag.service.LungflagApplication;
 import org.lungflag.service.e2e.FhirFixtures;
 import org.lungflag.service.e2e.SandboxServer;
+import org.lungflag.service.intake.CatchUpSearch;
 import org.lungflag.service.normalize.FhirSpecimenLookup;
 import org.lungflag.service.normalize.NormalizedResource;
 import org.lungflag.service.normalize.Normalizer;
@@ -49,7 +50,7 @@ import org.springframework.jdbc.core.simple.JdbcClient;
  * FiO2 0.50 is P/F 90, severe (P/F ≤ 100); PaO2 100 at FiO2 0.30 is P/F 333, above the mild band's 300. Patients and
  * records are invented.
  */
-final class Harness {
+public final class Harness {
 
     static final String TOKEN = "test-hook-token";
     static final FhirContext FHIR = fhirContext();
@@ -89,9 +90,31 @@ final class Harness {
                 "--lungflag.writeback.lease=15s",
                 "--lungflag.metrics.refresh=1s"));
         all.addAll(List.of(args));
-        return new SpringApplicationBuilder(LungflagApplication.class)
+        ConfigurableApplicationContext context = new SpringApplicationBuilder(LungflagApplication.class)
                 .profiles("test")
                 .run(all.toArray(String[]::new));
+        awaitFirstCatchUp(context);
+        return context;
+    }
+
+    /**
+     * The service searches once at start-up for what it may have missed. Records a test creates on the server before
+     * that search has run would be queued by it as well as delivered by the test, so tests start after it.
+     */
+    public static void awaitFirstCatchUp(ConfigurableApplicationContext context) {
+        CatchUpSearch catchUp = context.getBean(CatchUpSearch.class);
+        long deadline = System.nanoTime() + java.util.concurrent.TimeUnit.MINUTES.toNanos(2);
+        while (catchUp.status().lastAttemptAt() == null) {
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException("the first catch-up search did not run within 2 minutes");
+            }
+            try {
+                Thread.sleep(100);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+                throw new IllegalStateException(e);
+            }
+        }
     }
 
     static String newPatient(String prefix) {
