@@ -132,8 +132,12 @@ class DemoScenarioLiveTest {
                 String flagId) {}
         List<StoredEpisode> stored = jdbc.sql("""
                         SELECT episode_key, patient_id, rule_id, code, status, started_at, ended_at, flag_id FROM episode
-                         WHERE patient_id LIKE 'demo-%' ORDER BY patient_id, rule_id, started_at
+                         WHERE patient_id LIKE 'demo-%' AND status <> 'ENTERED_IN_ERROR'
+                         ORDER BY patient_id, rule_id, started_at
                         """)
+                // an episode withdrawn by a re-run (the rest of a charting moment arrived after its first part, as
+                // HAPI delivers each Subscription's notifications on its own threads) is history, not an advisory:
+                // the comparison is with what stands once everything has arrived (design invariant 2)
                 .query((rs, n) -> new StoredEpisode(
                         rs.getString(1),
                         rs.getString(2),
@@ -211,6 +215,14 @@ class DemoScenarioLiveTest {
                 .returnBundle(Bundle.class)
                 .execute();
         page.getEntry().forEach(e -> flags.add((Flag) e.getResource()));
+        // a withdrawn episode's Flag, if it had been written before the re-run, stays as entered-in-error
+        long withdrawn = jdbc.sql(
+                        "SELECT COUNT(*) FROM episode WHERE patient_id LIKE 'demo-%' AND status = 'ENTERED_IN_ERROR'")
+                .query(Long.class)
+                .single();
+        assertThat(flags.stream().filter(f -> f.getStatus() == Flag.FlagStatus.ENTEREDINERROR))
+                .hasSizeLessThanOrEqualTo((int) withdrawn);
+        flags.removeIf(f -> f.getStatus() == Flag.FlagStatus.ENTEREDINERROR);
         assertThat(flags).hasSize(stored.size());
         Map<String, Flag> byIdentifier = new LinkedHashMap<>();
         flags.forEach(f -> byIdentifier.put(f.getIdentifierFirstRep().getValue(), f));
