@@ -26,7 +26,6 @@ import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.lungflag.fhir.profiles.LungflagFhir;
-import org.lungflag.rules.engine.RuleEvaluation;
 import org.lungflag.service.LungflagApplication;
 import org.lungflag.service.intake.SubscriptionRegistrar;
 import org.lungflag.service.normalize.FhirSpecimenLookup;
@@ -35,6 +34,7 @@ import org.lungflag.service.normalize.Normalizer;
 import org.lungflag.service.offline.OfflineEvaluation;
 import org.lungflag.service.offline.PatientRun;
 import org.lungflag.service.patient.PatientDirectory;
+import org.lungflag.service.reliability.Harness;
 import org.lungflag.service.testsupport.PostgresCondition;
 import org.lungflag.service.testsupport.RequiresPostgres;
 import org.springframework.boot.builder.SpringApplicationBuilder;
@@ -240,10 +240,9 @@ class TwoInstancesOnOnePostgresTest {
             PatientRun run = offline.run(a.getBean(PatientDirectory.class).facts(p), resources, null);
 
             // the same evaluations as one evaluator over the same records: none lost, none twice
-            assertThat(liveEvaluations(p))
+            assertThat(Harness.liveEvaluations(jdbc(), p))
                     .as("evaluations of Patient/%s", p)
-                    .containsExactlyInAnyOrderElementsOf(
-                            run.evaluations().stream().map(Row::of).toList());
+                    .containsExactlyInAnyOrderElementsOf(Harness.offlineEvaluations(run));
 
             // one Flag per episode, and the final ones are what the single evaluator would leave
             List<Flag> flags = flagsOf(p);
@@ -276,35 +275,6 @@ class TwoInstancesOnOnePostgresTest {
 
     private static long count(String sql) {
         return jdbc().sql(sql).query(Long.class).single();
-    }
-
-    /** What two evaluations must share to be the same one. */
-    record Row(String rule, Instant at, String outcome, String tier, String reason, String episode) {
-        static Row of(RuleEvaluation e) {
-            return new Row(
-                    e.ruleId(),
-                    e.at(),
-                    e.outcome().name(),
-                    e.tier(),
-                    e.reason() == null ? null : e.reason().code(),
-                    e.episode() == null ? null : e.episode().key());
-        }
-    }
-
-    private static List<Row> liveEvaluations(String patientId) {
-        return jdbc().sql("""
-                        SELECT rule_id, anchor_time, outcome, tier_code, reason_code, episode_key FROM evaluation
-                         WHERE patient_id = :p AND NOT superseded
-                        """)
-                .param("p", patientId)
-                .query((rs, n) -> new Row(
-                        rs.getString(1),
-                        rs.getTimestamp(2).toInstant(),
-                        rs.getString(3),
-                        rs.getString(4),
-                        rs.getString(5),
-                        rs.getString(6)))
-                .list();
     }
 
     private static List<Flag> flagsOf(String patientId) {

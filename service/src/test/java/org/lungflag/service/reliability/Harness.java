@@ -298,7 +298,7 @@ public final class Harness {
     }
 
     /** What two evaluations must share to be the same one. */
-    record Row(String rule, Instant at, String outcome, String tier, String reason, String episode) {
+    public record Row(String rule, Instant at, String outcome, String tier, String reason, String episode) {
         static Row of(RuleEvaluation e) {
             return new Row(
                     e.ruleId(),
@@ -315,7 +315,7 @@ public final class Harness {
         }
     }
 
-    static List<Row> liveEvaluations(JdbcClient jdbc, String patientId) {
+    public static List<Row> liveEvaluations(JdbcClient jdbc, String patientId) {
         return jdbc.sql("""
                         SELECT rule_id, anchor_time, outcome, tier_code, reason_code, episode_key FROM evaluation
                          WHERE patient_id = :p AND NOT superseded
@@ -331,7 +331,7 @@ public final class Harness {
                 .list();
     }
 
-    static List<Row> offlineEvaluations(PatientRun run) {
+    public static List<Row> offlineEvaluations(PatientRun run) {
         return run.evaluations().stream().map(Row::of).toList();
     }
 }
