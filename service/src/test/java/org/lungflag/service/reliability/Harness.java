@@ -29,13 +29,13 @@ import org.lungflag.rules.engine.RuleEvaluation;
 import org.lungflag.service.LungflagApplication;
 import org.lungflag.service.e2e.FhirFixtures;
 import org.lungflag.service.e2e.SandboxServer;
-import org.lungflag.service.intake.CatchUpSearch;
 import org.lungflag.service.normalize.FhirSpecimenLookup;
 import org.lungflag.service.normalize.NormalizedResource;
 import org.lungflag.service.normalize.Normalizer;
 import org.lungflag.service.offline.OfflineEvaluation;
 import org.lungflag.service.offline.PatientRun;
 import org.lungflag.service.patient.PatientDirectory;
+import org.lungflag.service.testsupport.FirstCatchUp;
 import org.springframework.boot.builder.SpringApplicationBuilder;
 import org.springframework.context.ConfigurableApplicationContext;
 import org.springframework.jdbc.core.simple.JdbcClient;
@@ -97,24 +97,9 @@ public final class Harness {
         return context;
     }
 
-    /**
-     * The service searches once at start-up for what it may have missed. Records a test creates on the server before
-     * that search has run would be queued by it as well as delivered by the test, so tests start after it.
-     */
+    /** See {@link FirstCatchUp}. */
     public static void awaitFirstCatchUp(ConfigurableApplicationContext context) {
-        CatchUpSearch catchUp = context.getBean(CatchUpSearch.class);
-        long deadline = System.nanoTime() + java.util.concurrent.TimeUnit.MINUTES.toNanos(2);
-        while (catchUp.status().lastAttemptAt() == null) {
-            if (System.nanoTime() > deadline) {
-                throw new IllegalStateException("the first catch-up search did not run within 2 minutes");
-            }
-            try {
-                Thread.sleep(100);
-            } catch (InterruptedException e) {
-                Thread.currentThread().interrupt();
-                throw new IllegalStateException(e);
-            }
-        }
+        FirstCatchUp.await(context);
     }
 
     static String newPatient(String prefix) {

@@ -50,7 +50,7 @@ import org.lungflag.service.normalize.NormalizedResource;
 import org.lungflag.service.normalize.Normalizer;
 import org.lungflag.service.normalize.SpecimenLookup;
 import org.lungflag.service.offline.OfflineEvaluation;
-import org.lungflag.service.reliability.Harness;
+import org.lungflag.service.testsupport.FirstCatchUp;
 import org.springframework.boot.builder.SpringApplicationBuilder;
 import org.springframework.context.ConfigurableApplicationContext;
 import org.springframework.jdbc.core.simple.JdbcClient;
@@ -126,7 +126,12 @@ public final class HookLoadBenchmark {
     public static void main(String[] args) throws Exception {
         Options options = parse(args);
         HookLoadBenchmark bench = new HookLoadBenchmark(options, System.out);
-        bench.runAll();
+        try {
+            bench.runAll();
+        } catch (Exception | Error e) {
+            e.printStackTrace();
+            System.exit(1); // the services' non-daemon threads would keep the JVM alive
+        }
         System.exit(0);
     }
 
@@ -335,7 +340,7 @@ public final class HookLoadBenchmark {
         }
         ConfigurableApplicationContext service =
                 new SpringApplicationBuilder(LungflagApplication.class).run(args.toArray(String[]::new));
-        Harness.awaitFirstCatchUp(service);
+        FirstCatchUp.await(service);
         List<Step> steps = new ArrayList<>();
         long heap;
         int committed;
