@@ -2,6 +2,9 @@ package org.lungflag.service.audit;
 
 import java.sql.Timestamp;
 import java.time.Instant;
+import java.util.List;
+import org.springframework.jdbc.core.namedparam.MapSqlParameterSource;
+import org.springframework.jdbc.core.namedparam.NamedParameterJdbcTemplate;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.stereotype.Repository;
 
@@ -21,10 +24,24 @@ public class ReceivedResourceRepository {
     }
 
     private final JdbcClient jdbc;
+    private final NamedParameterJdbcTemplate named;
 
-    ReceivedResourceRepository(JdbcClient jdbc) {
+    ReceivedResourceRepository(JdbcClient jdbc, NamedParameterJdbcTemplate named) {
         this.jdbc = jdbc;
+        this.named = named;
     }
+
+    /** One received resource version and what became of it. */
+    public record Received(
+            String resourceType,
+            String resourceId,
+            String versionId,
+            String bodySha256,
+            String patientId,
+            Instant clinicalTime,
+            String channel,
+            Instant receivedAt,
+            Outcome outcome) {}
 
     public void add(
             String resourceType,
@@ -36,21 +53,41 @@ public class ReceivedResourceRepository {
             String channel,
             Instant receivedAt,
             Outcome outcome) {
-        jdbc.sql("""
-                        INSERT INTO received_resource (resource_type, resource_id, version_id, body_sha256, patient_id,
-                                                       clinical_time, channel, received_at, outcome)
-                        VALUES (:type, :id, :version, :sha, :patient, :time, :channel, :received, :outcome)
-                        """)
-                .param("type", resourceType)
-                .param("id", resourceId)
-                .param("version", versionId)
-                .param("sha", bodySha256)
-                .param("patient", patientId)
-                .param("time", clinicalTime == null ? null : Timestamp.from(clinicalTime))
-                .param("channel", channel)
-                .param("received", Timestamp.from(receivedAt))
-                .param("outcome", outcome.name())
-                .update();
+        addAll(List.of(new Received(
+                resourceType,
+                resourceId,
+                versionId,
+                bodySha256,
+                patientId,
+                clinicalTime,
+                channel,
+                receivedAt,
+                outcome)));
+    }
+
+    /** Records several in one JDBC batch, in order. */
+    public void addAll(List<Received> rows) {
+        if (rows.isEmpty()) {
+            return;
+        }
+        named.batchUpdate(
+                """
+                INSERT INTO received_resource (resource_type, resource_id, version_id, body_sha256, patient_id,
+                                               clinical_time, channel, received_at, outcome)
+                VALUES (:type, :id, :version, :sha, :patient, :time, :channel, :received, :outcome)
+                """,
+                rows.stream()
+                        .map(r -> new MapSqlParameterSource()
+                                .addValue("type", r.resourceType())
+                                .addValue("id", r.resourceId())
+                                .addValue("version", r.versionId())
+                                .addValue("sha", r.bodySha256())
+                                .addValue("patient", r.patientId())
+                                .addValue("time", r.clinicalTime() == null ? null : Timestamp.from(r.clinicalTime()))
+                                .addValue("channel", r.channel())
+                                .addValue("received", Timestamp.from(r.receivedAt()))
+                                .addValue("outcome", r.outcome().name()))
+                        .toArray(MapSqlParameterSource[]::new));
     }
 
     /** Whether this exact version was already processed (whatever the outcome). */

@@ -5,7 +5,11 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.sql.Timestamp;
 import java.time.Clock;
 import java.time.Instant;
+import java.util.List;
+import java.util.Map;
 import org.lungflag.rules.engine.RuleEvaluation;
+import org.springframework.jdbc.core.namedparam.MapSqlParameterSource;
+import org.springframework.jdbc.core.namedparam.NamedParameterJdbcTemplate;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.jdbc.support.GeneratedKeyHolder;
 import org.springframework.stereotype.Repository;
@@ -19,38 +23,69 @@ import org.springframework.stereotype.Repository;
 class EvaluationRepository {
 
     private final JdbcClient jdbc;
+    private final NamedParameterJdbcTemplate named;
     private final ObjectMapper json;
     private final Clock clock;
 
-    EvaluationRepository(JdbcClient jdbc, ObjectMapper json, Clock clock) {
+    EvaluationRepository(JdbcClient jdbc, NamedParameterJdbcTemplate named, ObjectMapper json, Clock clock) {
         this.jdbc = jdbc;
+        this.named = named;
         this.json = json;
         this.clock = clock;
     }
 
+    private static final String INSERT = """
+            INSERT INTO evaluation (patient_id, rule_id, rule_version, rule_digest, anchor_time, evaluated_at,
+                                    outcome, tier_code, reason_code, detail, episode_key, mode, explanation)
+            VALUES (:patient, :rule, :version, :digest, :at, :now, :outcome, :tier, :reason, :detail,
+                    :episode, :mode, :explanation)
+            """;
+
     long add(RuleEvaluation e, EvaluationMode mode) {
+        return addAll(List.of(e), List.of(mode))[0];
+    }
+
+    /**
+     * Inserts evaluations in one JDBC batch, in order, and returns their ids in the same order.
+     *
+     * @param modes the mode each evaluation ran in, index for index
+     */
+    long[] addAll(List<RuleEvaluation> evaluations, List<EvaluationMode> modes) {
+        if (evaluations.isEmpty()) {
+            return new long[0];
+        }
+        Timestamp now = Timestamp.from(clock.instant());
+        MapSqlParameterSource[] rows = new MapSqlParameterSource[evaluations.size()];
+        for (int i = 0; i < rows.length; i++) {
+            RuleEvaluation e = evaluations.get(i);
+            rows[i] = new MapSqlParameterSource()
+                    .addValue("patient", e.patientId())
+                    .addValue("rule", e.ruleId())
+                    .addValue("version", e.ruleVersion())
+                    .addValue("digest", e.ruleDigest())
+                    .addValue("at", Timestamp.from(e.at()))
+                    .addValue("now", now)
+                    .addValue("outcome", e.outcome().name())
+                    .addValue("tier", e.tier())
+                    .addValue("reason", e.reason() == null ? null : e.reason().code())
+                    .addValue("detail", e.detail())
+                    .addValue(
+                            "episode", e.episode() == null ? null : e.episode().key())
+                    .addValue("mode", modes.get(i).name())
+                    .addValue("explanation", write(e));
+        }
         GeneratedKeyHolder keys = new GeneratedKeyHolder();
-        jdbc.sql("""
-                        INSERT INTO evaluation (patient_id, rule_id, rule_version, rule_digest, anchor_time, evaluated_at,
-                                                outcome, tier_code, reason_code, detail, episode_key, mode, explanation)
-                        VALUES (:patient, :rule, :version, :digest, :at, :now, :outcome, :tier, :reason, :detail,
-                                :episode, :mode, :explanation)
-                        """)
-                .param("patient", e.patientId())
-                .param("rule", e.ruleId())
-                .param("version", e.ruleVersion())
-                .param("digest", e.ruleDigest())
-                .param("at", Timestamp.from(e.at()))
-                .param("now", Timestamp.from(clock.instant()))
-                .param("outcome", e.outcome().name())
-                .param("tier", e.tier())
-                .param("reason", e.reason() == null ? null : e.reason().code())
-                .param("detail", e.detail())
-                .param("episode", e.episode() == null ? null : e.episode().key())
-                .param("mode", mode.name())
-                .param("explanation", write(e))
-                .update(keys, "id");
-        return keys.getKeyAs(Number.class).longValue();
+        named.batchUpdate(INSERT, rows, keys, new String[] {"id"});
+        List<Map<String, Object>> generated = keys.getKeyList();
+        if (generated.size() != rows.length) {
+            throw new IllegalStateException(
+                    "the database returned " + generated.size() + " ids for " + rows.length + " evaluations");
+        }
+        long[] ids = new long[rows.length];
+        for (int i = 0; i < ids.length; i++) {
+            ids[i] = ((Number) generated.get(i).values().iterator().next()).longValue();
+        }
+        return ids;
     }
 
     /** Marks the patient's evaluations after {@code after} superseded by a re-evaluation. */

@@ -221,34 +221,60 @@ public class InboxProcessor implements SmartLifecycle {
                 }
             }
         }
+        // demographics and first-sight history are read before the transaction (they may need the FHIR server)
+        List<PatientProcessor.PatientWork> ready = new ArrayList<>();
+        List<String> hydratedNow = new ArrayList<>();
         for (Map.Entry<String, List<Work>> e : byPatient.entrySet()) {
             String patientId = e.getKey();
             try {
                 PatientFacts facts = patients.facts(patientId);
                 List<Work> work = new ArrayList<>();
-                boolean hydratedNow = true;
                 try {
                     work.addAll(hydrate(patientId, now));
+                    hydratedNow.add(patientId);
                 } catch (HydrationDeferred deferred) {
-                    hydratedNow = false;
+                    // go on without it; the next batch for this patient tries again
                 }
                 work.addAll(e.getValue());
-                processor.apply(patientId, facts, work);
-                if (hydratedNow) {
-                    hydrated.add(patientId);
-                }
+                ready.add(new PatientProcessor.PatientWork(patientId, facts, work));
             } catch (PatientUnavailable | RuntimeException ex) {
-                log.warn(
-                        "Patient/{}: {} resources not processed now ({}); they will be retried",
-                        patientId,
-                        e.getValue().size(),
-                        ex.getClass().getSimpleName());
-                log.debug("Patient/{}: processing failed", patientId, ex);
-                e.getValue().forEach(w -> retry.add(w.inboxId()));
+                notProcessed(patientId, e.getValue(), ex, retry);
+            }
+        }
+        if (!ready.isEmpty()) {
+            try {
+                processor.applyAll(ready); // one transaction, one commit for the whole batch
+                hydrated.addAll(hydratedNow);
+            } catch (RuntimeException batchFailed) {
+                log.debug("batch of {} patients failed; applying them one by one", ready.size(), batchFailed);
+                for (PatientProcessor.PatientWork pw : ready) {
+                    try {
+                        processor.applyAll(List.of(pw));
+                        if (hydratedNow.contains(pw.patientId())) {
+                            hydrated.add(pw.patientId());
+                        }
+                    } catch (RuntimeException ex) {
+                        notProcessed(pw.patientId(), byPatient.get(pw.patientId()), ex, retry);
+                    }
+                }
             }
         }
         inbox.release(retry, retryDelay);
         return items.size();
+    }
+
+    private static void notProcessed(String patientId, List<Work> work, Exception ex, List<Long> retry) {
+        log.warn(
+                "Patient/{}: {} resources not processed now ({}); they will be retried",
+                patientId,
+                work.size(),
+                ex.getClass().getSimpleName());
+        if (ex instanceof RuntimeException re && !transientFailure(re)) {
+            log.error("Patient/{}: unexpected failure while processing", patientId, ex); // a bug: keep its stack
+        } else {
+            log.debug("Patient/{}: processing failed", patientId, ex);
+        }
+        work.forEach(w -> retry.add(w.inboxId()));
     }
 
     /**

@@ -122,66 +122,186 @@ public class PatientProcessor {
     /** What one call changed, for metrics and tests. */
     public record Result(int evaluations, int flagWrites) {}
 
+    /** One patient's share of an inbox batch. */
+    record PatientWork(String patientId, PatientFacts facts, List<Work> work) {}
+
+    /**
+     * Everything one transaction does besides the evaluation itself, kept to be written at its end in a few JDBC
+     * batches (received references, finished inbox rows, patient states) and the rule modes read once at its start.
+     */
+    private final class Round {
+        final RuleModes.Snapshot modes = PatientProcessor.this.modes.snapshot();
+        final List<ReceivedResourceRepository.Received> received = new ArrayList<>();
+        final List<Long> done = new ArrayList<>();
+        final List<PatientStateStore.Save> saves = new ArrayList<>();
+        final Map<String, PatientEvaluator> evaluators = new LinkedHashMap<>();
+        final TimelineStore.Writes facts = timelines.writes();
+        int evaluations;
+        int flagWrites;
+
+        void finish() {
+            facts.flush();
+            states.saveAll(saves);
+            PatientProcessor.this.received.addAll(received);
+            inbox.markDone(done);
+        }
+    }
+
     /** Applies resources (in clinical order) and marks their inbox rows done, all in one transaction. */
     Result apply(String patientId, PatientFacts patient, List<Work> work) {
-        List<Work> ordered = new ArrayList<>(work);
-        ordered.sort(Comparator.comparing(
-                (Work w) -> w.resource().clinicalTime(), Comparator.nullsFirst(Comparator.naturalOrder())));
+        return applyAll(List.of(new PatientWork(patientId, patient, work)));
+    }
+
+    /**
+     * Applies several patients' resources in one transaction, so a batch of the inbox costs one commit. Each
+     * patient's resources are applied in clinical order. If anything fails, nothing of the batch is kept, every
+     * evaluator it touched is dropped from the cache, and the exception is thrown (the caller retries patient by
+     * patient, so one patient's failure does not hold up the others).
+     */
+    Result applyAll(List<PatientWork> batch) {
+        List<PatientWork> ordered = new ArrayList<>(batch);
+        for (int i = 0; i < ordered.size(); i++) {
+            PatientWork pw = ordered.get(i);
+            ordered.set(i, new PatientWork(pw.patientId(), pw.facts(), inClinicalOrder(pw.work())));
+        }
+        Round round;
         try {
-            Result result = tx.execute(status -> applyInTransaction(patientId, patient, ordered, null));
-            for (Work w : ordered) {
+            round = tx.execute(status -> {
+                Round r = new Round();
+                applyInTransaction(ordered, null, r);
+                r.finish();
+                return r;
+            });
+        } catch (RuntimeException e) {
+            ordered.forEach(pw -> cache.evict(pw.patientId()));
+            throw e;
+        }
+        for (PatientStateStore.Save save : round.saves) {
+            cache.put(save.patientId(), round.evaluators.get(save.patientId()), save.expectedSeq() + 1);
+        }
+        for (PatientWork pw : ordered) {
+            for (Work w : pw.work()) {
                 if (w.inboxId() != null) {
                     metrics.committed(w.receivedAt());
                 }
             }
-            return result;
-        } catch (RuntimeException e) {
-            cache.evict(patientId);
-            throw e;
         }
+        return new Result(round.evaluations, round.flagWrites);
+    }
+
+    /**
+     * The order in which one patient's resources are applied: by clinical time (as the engine would have seen them
+     * live), except that a withdrawal (deleted, entered in error), which has no clinical time, comes right after the
+     * versions of the same resource received before it, so a record created and withdrawn within one batch ends up
+     * withdrawn. The sort is stable: equal clinical times keep their order of receipt.
+     */
+    static List<Work> inClinicalOrder(List<Work> work) {
+        List<Work> sorted = new ArrayList<>();
+        for (Work w : work) {
+            if (!w.resource().retracted()) {
+                sorted.add(w);
+            }
+        }
+        sorted.sort(Comparator.comparing(
+                (Work w) -> w.resource().clinicalTime(), Comparator.nullsFirst(Comparator.naturalOrder())));
+        for (int i = 0; i < work.size(); i++) {
+            Work withdrawal = work.get(i);
+            if (!withdrawal.resource().retracted()) {
+                continue;
+            }
+            List<Work> earlier = work.subList(0, i);
+            int at = 0;
+            for (int k = 0; k < sorted.size(); k++) {
+                Work candidate = sorted.get(k);
+                if (sameResource(candidate, withdrawal) && containsSame(earlier, candidate)) {
+                    at = k + 1;
+                }
+            }
+            sorted.add(at, withdrawal);
+        }
+        return sorted;
+    }
+
+    private static boolean sameResource(Work a, Work b) {
+        return a.resource().source() != null
+                && b.resource().source() != null
+                && a.resource()
+                        .source()
+                        .resourceType()
+                        .equals(b.resource().source().resourceType())
+                && a.resource().source().id().equals(b.resource().source().id());
+    }
+
+    private static boolean containsSame(List<Work> list, Work w) {
+        for (Work x : list) {
+            if (x == w) {
+                return true;
+            }
+        }
+        return false;
     }
 
     /** Moves a patient's clinical clock on with no new data (resolution and expiry by time passing). */
     Result advance(String patientId, PatientFacts patient, Instant clinicalNow) {
+        Round round;
         try {
-            return tx.execute(status -> applyInTransaction(patientId, patient, List.of(), clinicalNow));
+            round = tx.execute(status -> {
+                Round r = new Round();
+                applyInTransaction(List.of(new PatientWork(patientId, patient, List.of())), clinicalNow, r);
+                r.finish();
+                return r;
+            });
         } catch (RuntimeException e) {
             cache.evict(patientId);
             throw e;
         }
+        cache.put(patientId, round.evaluators.get(patientId), round.saves.get(0).expectedSeq() + 1);
+        return new Result(round.evaluations, round.flagWrites);
     }
 
-    private Result applyInTransaction(String patientId, PatientFacts patient, List<Work> work, Instant advanceTo) {
-        var stored = states.lockAndLoad(patientId);
-        long seq = stored.map(PatientStateStore.Stored::seq).orElse(0L);
-        PatientEvaluator evaluator = evaluator(patientId, patient, stored.orElse(null), seq);
-        Counts counts = new Counts();
-        Batch demographics = evaluator.updatePatient(patient);
-        reconcile(patientId, demographics, evaluator, counts);
-        List<Long> done = new ArrayList<>();
-        for (Work w : work) {
-            applyOne(patientId, w, evaluator, counts);
-            if (w.inboxId() != null) {
-                done.add(w.inboxId());
+    private void applyInTransaction(List<PatientWork> batch, Instant advanceTo, Round round) {
+        List<String> ids = batch.stream().map(PatientWork::patientId).toList();
+        Map<String, PatientStateStore.Locked> locked = states.lockAll(ids);
+        // decode the stored state only where the cached evaluator is not the current one; the entry is read once
+        // (another thread may evict it meanwhile, e.g. the clock advancer after a failure of its own)
+        List<String> stale = new ArrayList<>();
+        Map<String, PatientEvaluator> current = new HashMap<>();
+        for (String id : ids) {
+            EvaluatorCache.Entry cached = cache.get(id);
+            PatientStateStore.Locked l = locked.get(id);
+            if (cached == null || l == null || cached.seq() != l.seq()) {
+                stale.add(id);
+            } else {
+                current.put(id, cached.evaluator());
             }
         }
-        if (advanceTo != null) {
-            reconcile(patientId, evaluator.advanceTo(advanceTo), evaluator, counts);
+        Map<String, PatientStateStore.Stored> stored = states.loadLocked(stale);
+        for (PatientWork pw : batch) {
+            String patientId = pw.patientId();
+            PatientStateStore.Locked l = locked.get(patientId);
+            long seq = l == null ? 0L : l.seq();
+            PatientEvaluator evaluator = current.containsKey(patientId)
+                    ? current.get(patientId)
+                    : rebuild(patientId, pw.facts(), stored.get(patientId));
+            round.evaluators.put(patientId, evaluator);
+            Batch demographics = evaluator.updatePatient(pw.facts());
+            reconcile(patientId, demographics, evaluator, round);
+            for (Work w : pw.work()) {
+                applyOne(patientId, w, evaluator, round);
+                if (w.inboxId() != null) {
+                    round.done.add(w.inboxId());
+                }
+            }
+            if (advanceTo != null) {
+                reconcile(patientId, evaluator.advanceTo(advanceTo), evaluator, round);
+            }
+            Instant latest = evaluator.timeline().latestTime().orElse(null);
+            round.saves.add(new PatientStateStore.Save(patientId, evaluator.resumable(), latest, seq));
         }
-        Instant latest = evaluator.timeline().latestTime().orElse(null);
-        long next = states.save(patientId, evaluator.resumable(), latest, seq);
-        inbox.markDone(done);
-        cache.put(patientId, evaluator, next);
-        return new Result(counts.evaluations, counts.flagWrites);
     }
 
-    private PatientEvaluator evaluator(
-            String patientId, PatientFacts patient, PatientStateStore.Stored stored, long seq) {
-        EvaluatorCache.Entry cached = cache.get(patientId);
-        if (cached != null && cached.seq() == seq) {
-            return cached.evaluator();
-        }
-        // stale (another instance processed the patient since), evicted, or never seen here: rebuild from the store
+    /** An evaluator rebuilt from the store: stale (another instance processed the patient since), evicted, or new. */
+    private PatientEvaluator rebuild(String patientId, PatientFacts patient, PatientStateStore.Stored stored) {
         PatientTimeline timeline = timelines.load(patientId, properties.window());
         if (stored == null) {
             return PatientEvaluator.start(engine, timeline, patient);
@@ -192,7 +312,7 @@ public class PatientProcessor {
         return PatientEvaluator.resume(engine, timeline, patient, stored.state());
     }
 
-    private void applyOne(String patientId, Work w, PatientEvaluator evaluator, Counts counts) {
+    private void applyOne(String patientId, Work w, PatientEvaluator evaluator, Round round) {
         NormalizedResource r = w.resource();
         for (NormalizedResource.Refusal refusal : r.refusals()) {
             quarantine.add(new Refusal(
@@ -209,12 +329,12 @@ public class PatientProcessor {
         }
         Outcome outcome;
         if (r.retracted()) {
-            timelines.retract(r.source().resourceType(), r.source().id());
+            round.facts.retract(r.source().resourceType(), r.source().id());
             reconcile(
                     patientId,
                     evaluator.retract(r.source().resourceType(), r.source().id()),
                     evaluator,
-                    counts);
+                    round);
             outcome = Outcome.RETRACTED;
         } else if (r.facts().isEmpty()) {
             outcome = Outcome.QUARANTINED;
@@ -237,14 +357,14 @@ public class PatientProcessor {
                         w.bodySha256(),
                         null));
             } else {
-                timelines.store(patientId, r.source(), r.facts());
-                reconcile(patientId, batch, evaluator, counts);
+                round.facts.store(patientId, r.source(), r.facts());
+                reconcile(patientId, batch, evaluator, round);
                 outcome = batch.added() == AddResult.REPLACED
                         ? Outcome.REPLACED_OLDER
                         : r.refusals().isEmpty() ? Outcome.USED : Outcome.PARTLY_QUARANTINED;
             }
         }
-        received.add(
+        round.received.add(new ReceivedResourceRepository.Received(
                 r.source() == null ? "Observation" : r.source().resourceType(),
                 r.source() == null ? null : r.source().id(),
                 r.source() == null ? null : r.source().version(),
@@ -253,19 +373,14 @@ public class PatientProcessor {
                 r.clinicalTime(),
                 w.channel(),
                 w.receivedAt(),
-                outcome);
-    }
-
-    private static final class Counts {
-        int evaluations;
-        int flagWrites;
+                outcome));
     }
 
     /**
      * Records a batch's evaluations and brings the episodes (and so the Flags) in line with them: new, changed
      * and ended episodes get a Flag write; episodes that a re-evaluation no longer produces are withdrawn.
      */
-    private void reconcile(String patientId, Batch batch, PatientEvaluator evaluator, Counts counts) {
+    private void reconcile(String patientId, Batch batch, PatientEvaluator evaluator, Round round) {
         if (batch.supersedesAfter() == null && batch.evaluations().isEmpty()) {
             return;
         }
@@ -277,10 +392,16 @@ public class PatientProcessor {
         Map<String, List<String>> lastInputsByRule = new HashMap<>();
         Map<RuleEvaluation, Long> ids = new HashMap<>();
         Map<String, UsedIndexAt> indices = new LinkedHashMap<>();
+        List<EvaluationMode> evaluationModes =
+                new ArrayList<>(batch.evaluations().size());
         for (RuleEvaluation e : batch.evaluations()) {
-            EvaluationMode mode = modes.mode(e.ruleId());
-            ids.put(e, evaluations.add(e, mode));
-            counts.evaluations++;
+            evaluationModes.add(round.modes.mode(e.ruleId()));
+        }
+        long[] evaluationIds = evaluations.addAll(batch.evaluations(), evaluationModes);
+        for (int i = 0; i < evaluationIds.length; i++) {
+            RuleEvaluation e = batch.evaluations().get(i);
+            ids.put(e, evaluationIds[i]);
+            round.evaluations++;
             metrics.evaluated(e.ruleId(), e.outcome().name());
             List<String> inputs = AdvisoryResources.inputsOf(e);
             if (!inputs.isEmpty()) {
@@ -305,19 +426,19 @@ public class PatientProcessor {
                     lastActiveByEpisode.get(entry.getKey()),
                     lastInputsByRule.getOrDefault(e.ruleId(), List.of()),
                     ids.get(e),
-                    counts);
+                    round);
         }
         // Episodes the evaluator holds active that the store does not (an earlier closure was re-evaluated away)
         for (Episode active : evaluator.activeEpisodes()) {
             if (!latestByEpisode.containsKey(active.key())) {
                 EpisodeRow row = episodes.get(active.key()).orElse(null);
                 if (row == null || !"ACTIVE".equals(row.status()) || !Objects.equals(row.code(), active.tier())) {
-                    reopen(patientId, active, row, counts);
+                    reopen(patientId, active, row, round);
                 }
             }
         }
         if (batch.supersedesAfter() != null) {
-            withdrawVanished(patientId, batch.supersedesAfter(), latestByEpisode.keySet(), evaluator, counts);
+            withdrawVanished(patientId, batch.supersedesAfter(), latestByEpisode.keySet(), evaluator, round);
         }
         if (modes.indicesWritten() && !indices.isEmpty()) {
             queueIndices(patientId, indices.values());
@@ -333,7 +454,7 @@ public class PatientProcessor {
             RuleEvaluation lastActive,
             List<String> recentInputs,
             Long evaluationId,
-            Counts counts) {
+            Round round) {
         EpisodeRow row = episodes.get(episode.key()).orElse(null);
         String status = episode.status().name();
         if (row != null
@@ -343,7 +464,7 @@ public class PatientProcessor {
             return; // ongoing at the same tier: the Flag already says this
         }
         RuleDefinition rule = rule(episode.ruleId());
-        EvaluationMode mode = modes.mode(rule.id());
+        EvaluationMode mode = round.modes.mode(rule.id());
         Flag flag;
         if (episode.status() == EpisodeStatus.ACTIVE) {
             flag = AdvisoryResources.activeFlag(episode, e, rule, modeCode(mode), List.of());
@@ -376,11 +497,11 @@ public class PatientProcessor {
                 episode.status() == EpisodeStatus.ACTIVE ? null : status,
                 mode,
                 encode(flag));
-        counts.flagWrites++;
+        round.flagWrites++;
         metrics.advisory(rule.id(), flag.getStatus().toCode());
     }
 
-    private void reopen(String patientId, Episode active, EpisodeRow row, Counts counts) {
+    private void reopen(String patientId, Episode active, EpisodeRow row, Round round) {
         if (row == null || row.flagResource() == null) {
             return;
         }
@@ -388,7 +509,7 @@ public class PatientProcessor {
         flag.setStatus(Flag.FlagStatus.ACTIVE);
         flag.getPeriod().setEndElement(null);
         RuleDefinition rule = rule(active.ruleId());
-        EvaluationMode mode = modes.mode(rule.id());
+        EvaluationMode mode = round.modes.mode(rule.id());
         queueFlag(patientId, active, rule, flag, AdvisoryResources.detailsOf(flag), false, null, mode);
         episodes.upsert(
                 active.key(),
@@ -402,11 +523,11 @@ public class PatientProcessor {
                 null,
                 mode,
                 encode(flag));
-        counts.flagWrites++;
+        round.flagWrites++;
     }
 
     private void withdrawVanished(
-            String patientId, Instant after, Set<String> produced, PatientEvaluator evaluator, Counts counts) {
+            String patientId, Instant after, Set<String> produced, PatientEvaluator evaluator, Round round) {
         Set<String> alive = new HashSet<>(produced);
         evaluator.activeEpisodes().forEach(ep -> alive.add(ep.key()));
         for (EpisodeRow row : episodes.forPatient(patientId)) {
@@ -430,7 +551,7 @@ public class PatientProcessor {
                         "WITHDRAWN",
                         mode,
                         encode(flag));
-                counts.flagWrites++;
+                round.flagWrites++;
                 log.info(
                         "withdrew advisory episode {} of Patient/{}: re-evaluation no longer produces it",
                         row.key(),

@@ -7,10 +7,18 @@ import java.sql.SQLException;
 import java.sql.Timestamp;
 import java.time.Clock;
 import java.time.Instant;
-import java.util.Optional;
+import java.util.ArrayList;
+import java.util.Collection;
+import java.util.Comparator;
+import java.util.HashMap;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
 import javax.sql.DataSource;
 import org.lungflag.rules.engine.EngineState;
 import org.lungflag.rules.engine.PatientEvaluator.Resumable;
+import org.springframework.jdbc.core.namedparam.MapSqlParameterSource;
+import org.springframework.jdbc.core.namedparam.NamedParameterJdbcTemplate;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.stereotype.Repository;
 
@@ -25,12 +33,16 @@ import org.springframework.stereotype.Repository;
 class PatientStateStore {
 
     private final JdbcClient jdbc;
+    private final NamedParameterJdbcTemplate named;
     private final ObjectMapper json;
     private final Clock clock;
     private final boolean postgres;
 
-    PatientStateStore(JdbcClient jdbc, ObjectMapper json, Clock clock, DataSource dataSource) throws SQLException {
+    PatientStateStore(
+            JdbcClient jdbc, NamedParameterJdbcTemplate named, ObjectMapper json, Clock clock, DataSource dataSource)
+            throws SQLException {
         this.jdbc = jdbc;
+        this.named = named;
         this.json = json;
         this.clock = clock;
         try (Connection c = dataSource.getConnection()) {
@@ -46,72 +58,111 @@ class PatientStateStore {
      */
     record Stored(EngineState state, Resumable resumable, long seq) {}
 
-    /** Takes the patient's lock for the current transaction and returns the stored state (creating the row). */
-    Optional<Stored> lockAndLoad(String patientId) {
+    /**
+     * Takes the locks of several patients for the current transaction, in one fixed order (advisory lock key, then
+     * id) so two instances locking overlapping batches cannot deadlock, and returns each patient's sequence number.
+     * The stored state is decoded only for the patients in {@code decode}: the others' cached evaluators are
+     * current when the sequence matches, which the caller checks.
+     *
+     * @return per patient, the stored state (or {@code null} when none was saved yet) and its sequence number
+     */
+    Map<String, Locked> lockAll(List<String> patientIds) {
+        List<String> ordered = lockOrder(patientIds);
         if (postgres) {
-            // taken first, so creating the state row below cannot race another instance
-            jdbc.sql("SELECT pg_advisory_xact_lock(:key)")
-                    .param("key", lockKey(patientId))
+            // one statement; unnest yields the keys in array order, so the locks are taken in that order
+            jdbc.sql("SELECT pg_advisory_xact_lock(k) FROM unnest(ARRAY[:keys]::bigint[]) AS t(k)")
+                    .param(
+                            "keys",
+                            ordered.stream().map(PatientStateStore::lockKey).toList())
                     .query(Object.class)
                     .list();
         }
-        ensureRow(patientId);
-        return jdbc.sql(
-                        "SELECT engine_state, engine_resume, state_seq FROM patient_state WHERE patient_id = :p FOR UPDATE")
-                .param("p", patientId)
+        // the rows are created if missing with ON CONFLICT DO NOTHING: the patient directory may create a row at the
+        // same moment from another instance (it caches demographics there without this lock), and a failed insert
+        // would abort the whole transaction on PostgreSQL
+        Timestamp now = Timestamp.from(clock.instant());
+        named.batchUpdate(
+                """
+                INSERT INTO patient_state (patient_id, state_seq, updated_at) VALUES (:p, 0, :now)
+                ON CONFLICT DO NOTHING
+                """,
+                ordered.stream()
+                        .map(p -> new MapSqlParameterSource().addValue("p", p).addValue("now", now))
+                        .toArray(MapSqlParameterSource[]::new));
+        Map<String, Locked> out = new LinkedHashMap<>();
+        jdbc.sql("""
+                        SELECT patient_id, state_seq, engine_state IS NOT NULL AS has_state FROM patient_state
+                         WHERE patient_id IN (:ids) ORDER BY patient_id FOR UPDATE
+                        """)
+                .param("ids", ordered)
+                .query((rs, n) -> out.put(
+                        rs.getString("patient_id"),
+                        new Locked(
+                                rs.getBoolean("has_state") ? rs.getLong("state_seq") : 0L, rs.getBoolean("has_state"))))
+                .list();
+        return out;
+    }
+
+    /** A locked patient's sequence number, and whether any state was saved yet. */
+    record Locked(long seq, boolean hasState) {}
+
+    /** The stored state of patients already locked in this transaction (see {@link #lockAll}). */
+    Map<String, Stored> loadLocked(List<String> patientIds) {
+        Map<String, Stored> out = new HashMap<>();
+        if (patientIds.isEmpty()) {
+            return out;
+        }
+        jdbc.sql("""
+                        SELECT patient_id, engine_state, engine_resume, state_seq FROM patient_state
+                         WHERE patient_id IN (:ids) AND engine_state IS NOT NULL
+                        """)
+                .param("ids", patientIds)
                 .query((rs, n) -> {
-                    String state = rs.getString("engine_state");
                     String resume = rs.getString("engine_resume");
-                    return state == null
-                            ? null
-                            : new Stored(
-                                    read(state, EngineState.class),
+                    return out.put(
+                            rs.getString("patient_id"),
+                            new Stored(
+                                    read(rs.getString("engine_state"), EngineState.class),
                                     resume == null ? null : read(resume, Resumable.class),
-                                    rs.getLong("state_seq"));
+                                    rs.getLong("state_seq")));
                 })
-                .optional();
+                .list();
+        return out;
     }
 
-    /** The sequence number without locking. */
-    long seq(String patientId) {
-        return jdbc.sql("SELECT state_seq FROM patient_state WHERE patient_id = :p")
-                .param("p", patientId)
-                .query(Long.class)
-                .optional()
-                .orElse(0L);
+    /** One patient's state to save at the end of a batch. */
+    record Save(String patientId, Resumable resumable, Instant latestClinical, long expectedSeq) {}
+
+    /** Saves several patients' states in one JDBC batch; each sequence moves to {@code expectedSeq + 1}. */
+    void saveAll(List<Save> saves) {
+        if (saves.isEmpty()) {
+            return;
+        }
+        Timestamp now = Timestamp.from(clock.instant());
+        named.batchUpdate(
+                """
+                UPDATE patient_state SET engine_state = :state, engine_resume = :resume, state_seq = :next,
+                       latest_clinical = :latest, updated_at = :now
+                 WHERE patient_id = :p
+                """,
+                saves.stream()
+                        .map(s -> new MapSqlParameterSource()
+                                .addValue("state", write(s.resumable().current()))
+                                .addValue("resume", write(s.resumable()))
+                                .addValue("next", s.expectedSeq() + 1)
+                                .addValue(
+                                        "latest",
+                                        s.latestClinical() == null ? null : Timestamp.from(s.latestClinical()))
+                                .addValue("now", now)
+                                .addValue("p", s.patientId()))
+                        .toArray(MapSqlParameterSource[]::new));
     }
 
-    /** Saves the evaluator's state and checkpoints and moves the sequence on. Returns the new sequence number. */
-    long save(String patientId, Resumable resumable, Instant latestClinical, long expectedSeq) {
-        long next = expectedSeq + 1;
-        jdbc.sql("""
-                        UPDATE patient_state SET engine_state = :state, engine_resume = :resume, state_seq = :next,
-                               latest_clinical = :latest, updated_at = :now
-                         WHERE patient_id = :p
-                        """)
-                .param("state", write(resumable.current()))
-                .param("resume", write(resumable))
-                .param("next", next)
-                .param("latest", latestClinical == null ? null : Timestamp.from(latestClinical))
-                .param("now", Timestamp.from(clock.instant()))
-                .param("p", patientId)
-                .update();
-        return next;
-    }
-
-    /**
-     * Creates the state row if missing. {@code ON CONFLICT DO NOTHING}: the patient directory may create the row at
-     * the same moment from another instance (it caches demographics there without this lock), and a failed insert
-     * would abort the whole transaction on PostgreSQL.
-     */
-    private void ensureRow(String patientId) {
-        jdbc.sql("""
-                        INSERT INTO patient_state (patient_id, state_seq, updated_at) VALUES (:p, 0, :now)
-                        ON CONFLICT DO NOTHING
-                        """)
-                .param("p", patientId)
-                .param("now", Timestamp.from(clock.instant()))
-                .update();
+    /** The order in which a batch takes its patients' locks. */
+    static List<String> lockOrder(Collection<String> patientIds) {
+        List<String> ordered = new ArrayList<>(new java.util.LinkedHashSet<>(patientIds));
+        ordered.sort(Comparator.comparingLong(PatientStateStore::lockKey).thenComparing(Comparator.naturalOrder()));
+        return ordered;
     }
 
     /** A stable 64-bit key for the advisory lock. */

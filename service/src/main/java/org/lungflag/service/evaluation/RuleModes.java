@@ -34,8 +34,36 @@ public class RuleModes {
         if (properties.mode() == WritebackMode.SILENT) {
             return EvaluationMode.SILENT;
         }
-        return override(ruleId)
-                .orElse(properties.silentRules().contains(ruleId) ? EvaluationMode.SILENT : EvaluationMode.ACTIVE);
+        return override(ruleId).orElse(configured(ruleId));
+    }
+
+    /**
+     * Every rule's mode as it stands now, read with one query: the inbox processor takes one per batch, so a switch by
+     * an admin applies from the next batch on and a batch never mixes two modes of one rule.
+     */
+    public Snapshot snapshot() {
+        return new Snapshot(properties.mode() == WritebackMode.SILENT ? Map.of() : overrides());
+    }
+
+    /** The modes in force when a {@link #snapshot()} was taken. */
+    public final class Snapshot {
+        private final Map<String, EvaluationMode> overrides;
+
+        private Snapshot(Map<String, EvaluationMode> overrides) {
+            this.overrides = overrides;
+        }
+
+        public EvaluationMode mode(String ruleId) {
+            if (properties.mode() == WritebackMode.SILENT) {
+                return EvaluationMode.SILENT;
+            }
+            EvaluationMode override = overrides.get(ruleId);
+            return override != null ? override : configured(ruleId);
+        }
+    }
+
+    private EvaluationMode configured(String ruleId) {
+        return properties.silentRules().contains(ruleId) ? EvaluationMode.SILENT : EvaluationMode.ACTIVE;
     }
 
     /** Every stored per-rule switch. */

@@ -11,8 +11,10 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
+import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import org.lungflag.rules.measure.BodyPosition;
 import org.lungflag.rules.measure.ClinicalFact;
 import org.lungflag.rules.measure.Measurement;
@@ -53,67 +55,125 @@ class TimelineStore {
 
     /** Stores one resource version's facts; older versions of the same resource are marked retracted. */
     void store(String patientId, SourceRef source, List<? extends ClinicalFact> facts) {
-        retract(source.resourceType(), source.id());
-        Timestamp now = Timestamp.from(clock.instant());
-        List<MapSqlParameterSource> rows = new ArrayList<>();
-        for (ClinicalFact fact : facts) {
-            MapSqlParameterSource p = new MapSqlParameterSource()
-                    .addValue("patient", patientId)
-                    .addValue("type", source.resourceType())
-                    .addValue("id", source.id())
-                    .addValue("version", source.version())
-                    .addValue("kind", fact.kind().name())
-                    .addValue("time", Timestamp.from(fact.time()))
-                    .addValue("now", now);
-            if (fact instanceof Measurement m) {
-                p.addValue("role", m.role().name())
-                        .addValue("specimen", m.specimen().name())
-                        .addValue("value", m.value())
-                        .addValue("unit", m.unit())
-                        .addValue(
-                                "originalValue",
-                                m.original() == null ? null : m.original().value())
-                        .addValue(
-                                "originalUnit",
-                                m.original() == null ? null : m.original().unit())
-                        .addValue("category", null)
-                        .addValue("flow", null)
-                        .addValue("repairs", m.repairs().isEmpty() ? null : write(m.repairs()));
-            } else {
-                String category = fact instanceof SupportState s
-                        ? s.mode().name()
-                        : ((PositionState) fact).position().name();
-                Double flow = fact instanceof SupportState s ? s.flowLitresPerMinute() : null;
-                p.addValue("role", null)
-                        .addValue("specimen", null)
-                        .addValue("value", null)
-                        .addValue("unit", null)
-                        .addValue("originalValue", null)
-                        .addValue("originalUnit", null)
-                        .addValue("category", category)
-                        .addValue("flow", flow)
-                        .addValue("repairs", null);
-            }
-            rows.add(p);
-        }
-        if (!rows.isEmpty()) {
-            named.batchUpdate("""
-                    INSERT INTO normalized_value (patient_id, source_type, source_id, source_version, kind, role, specimen,
-                                                  value_canonical, unit_canonical, value_original, unit_original,
-                                                  category, flow_lpm, repairs, clinical_time, recorded_at)
-                    VALUES (:patient, :type, :id, :version, :kind, :role, :specimen, :value, :unit, :originalValue,
-                            :originalUnit, :category, :flow, :repairs, :time, :now)
-                    """, rows.toArray(MapSqlParameterSource[]::new));
-        }
+        Writes writes = writes();
+        writes.store(patientId, source, facts);
+        writes.flush();
     }
 
     /** Marks every fact of a resource withdrawn (replaced by a newer version, or entered in error). */
     void retract(String resourceType, String resourceId) {
-        jdbc.sql(
-                        "UPDATE normalized_value SET retracted = TRUE WHERE source_type = :type AND source_id = :id AND NOT retracted")
-                .param("type", resourceType)
-                .param("id", resourceId)
-                .update();
+        Writes writes = writes();
+        writes.retract(resourceType, resourceId);
+        writes.flush();
+    }
+
+    /** Writes kept for the end of a transaction, so a batch of the inbox costs two statements here, not two each. */
+    Writes writes() {
+        return new Writes();
+    }
+
+    /**
+     * Stores and retractions of one transaction, written by {@link #flush()} with the same end result as doing them
+     * one by one in order: first every retraction of rows already stored, then every new row, those of a version
+     * replaced or withdrawn later in the same transaction already marked retracted.
+     */
+    final class Writes {
+        private final Map<String, Set<String>> retractedIds = new LinkedHashMap<>();
+        private final Map<String, List<MapSqlParameterSource>> pending = new LinkedHashMap<>();
+
+        void store(String patientId, SourceRef source, List<? extends ClinicalFact> facts) {
+            retract(source.resourceType(), source.id());
+            Timestamp now = Timestamp.from(clock.instant());
+            List<MapSqlParameterSource> rows =
+                    pending.computeIfAbsent(key(source.resourceType(), source.id()), k -> new ArrayList<>());
+            for (ClinicalFact fact : facts) {
+                rows.add(row(patientId, source, fact, now));
+            }
+        }
+
+        void retract(String resourceType, String resourceId) {
+            retractedIds
+                    .computeIfAbsent(resourceType, t -> new LinkedHashSet<>())
+                    .add(resourceId);
+            List<MapSqlParameterSource> rows = pending.get(key(resourceType, resourceId));
+            if (rows != null) {
+                rows.forEach(r -> r.addValue("retracted", true));
+            }
+        }
+
+        void flush() {
+            for (Map.Entry<String, Set<String>> e : retractedIds.entrySet()) {
+                List<String> ids = new ArrayList<>(e.getValue());
+                for (int from = 0; from < ids.size(); from += 500) {
+                    jdbc.sql("""
+                                    UPDATE normalized_value SET retracted = TRUE
+                                     WHERE source_type = :type AND source_id IN (:ids) AND NOT retracted
+                                    """)
+                            .param("type", e.getKey())
+                            .param("ids", ids.subList(from, Math.min(ids.size(), from + 500)))
+                            .update();
+                }
+            }
+            List<MapSqlParameterSource> rows = new ArrayList<>();
+            pending.values().forEach(rows::addAll);
+            if (!rows.isEmpty()) {
+                named.batchUpdate("""
+                        INSERT INTO normalized_value (patient_id, source_type, source_id, source_version, kind, role, specimen,
+                                                      value_canonical, unit_canonical, value_original, unit_original,
+                                                      category, flow_lpm, repairs, clinical_time, recorded_at, retracted)
+                        VALUES (:patient, :type, :id, :version, :kind, :role, :specimen, :value, :unit, :originalValue,
+                                :originalUnit, :category, :flow, :repairs, :time, :now, :retracted)
+                        """, rows.toArray(MapSqlParameterSource[]::new));
+            }
+            retractedIds.clear();
+            pending.clear();
+        }
+
+        private static String key(String resourceType, String resourceId) {
+            return resourceType + "/" + resourceId;
+        }
+    }
+
+    private MapSqlParameterSource row(String patientId, SourceRef source, ClinicalFact fact, Timestamp now) {
+        MapSqlParameterSource p = new MapSqlParameterSource()
+                .addValue("patient", patientId)
+                .addValue("type", source.resourceType())
+                .addValue("id", source.id())
+                .addValue("version", source.version())
+                .addValue("kind", fact.kind().name())
+                .addValue("time", Timestamp.from(fact.time()))
+                .addValue("now", now)
+                .addValue("retracted", false);
+        if (fact instanceof Measurement m) {
+            p.addValue("role", m.role().name())
+                    .addValue("specimen", m.specimen().name())
+                    .addValue("value", m.value())
+                    .addValue("unit", m.unit())
+                    .addValue(
+                            "originalValue",
+                            m.original() == null ? null : m.original().value())
+                    .addValue(
+                            "originalUnit",
+                            m.original() == null ? null : m.original().unit())
+                    .addValue("category", null)
+                    .addValue("flow", null)
+                    .addValue("repairs", m.repairs().isEmpty() ? null : write(m.repairs()));
+        } else {
+            String category = fact instanceof SupportState s
+                    ? s.mode().name()
+                    : ((PositionState) fact).position().name();
+            Double flow = fact instanceof SupportState s ? s.flowLitresPerMinute() : null;
+            p.addValue("role", null)
+                    .addValue("specimen", null)
+                    .addValue("value", null)
+                    .addValue("unit", null)
+                    .addValue("originalValue", null)
+                    .addValue("originalUnit", null)
+                    .addValue("category", category)
+                    .addValue("flow", flow)
+                    .addValue("repairs", null);
+        }
+        return p;
     }
 
     /** Rebuilds a patient's timeline from the stored facts of its window. */

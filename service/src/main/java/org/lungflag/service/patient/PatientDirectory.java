@@ -8,6 +8,8 @@ import java.sql.Timestamp;
 import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.LinkedHashMap;
+import java.util.Map;
 import java.util.Optional;
 import org.hl7.fhir.r4.model.Patient;
 import org.lungflag.rules.patient.PatientFacts;
@@ -18,8 +20,9 @@ import org.springframework.stereotype.Component;
 
 /**
  * Sex and birth date of the patients Lungflag sees, read from the FHIR server and cached in the audit store for
- * {@code lungflag.patient.refresh-after} (default 12 h). If the server cannot be reached, a cached value is used
- * however old; with no cached value the caller retries later.
+ * {@code lungflag.patient.refresh-after} (default 12 h), and kept in memory for the same time (the most recent
+ * {@value #MEMORY_ENTRIES} patients) so a busy inbox does not read them back for every batch. If the server cannot be
+ * reached, a cached value is used however old; with no cached value the caller retries later.
  */
 @Component
 public class PatientDirectory {
@@ -28,6 +31,15 @@ public class PatientDirectory {
     private final JdbcClient jdbc;
     private final Clock clock;
     private final Duration refreshAfter;
+
+    static final int MEMORY_ENTRIES = 10_000;
+
+    private final Map<String, Cached> memory = new LinkedHashMap<>(256, 0.75f, true) {
+        @Override
+        protected boolean removeEldestEntry(Map.Entry<String, Cached> eldest) {
+            return size() > MEMORY_ENTRIES;
+        }
+    };
 
     PatientDirectory(
             IGenericClient client,
@@ -53,8 +65,16 @@ public class PatientDirectory {
     private record Cached(PatientFacts facts, Instant at) {}
 
     public PatientFacts facts(String patientId) throws PatientUnavailable {
-        Optional<Cached> cached = cached(patientId);
         Instant now = clock.instant();
+        Cached remembered;
+        synchronized (memory) {
+            remembered = memory.get(patientId);
+        }
+        if (remembered != null && remembered.at().plus(refreshAfter).isAfter(now)) {
+            return remembered.facts();
+        }
+        Optional<Cached> cached = cached(patientId);
+        cached.ifPresent(c -> remember(patientId, c));
         if (cached.isPresent() && cached.get().at().plus(refreshAfter).isAfter(now)) {
             return cached.get().facts();
         }
@@ -96,7 +116,14 @@ public class PatientDirectory {
                 .optional();
     }
 
+    private void remember(String patientId, Cached cached) {
+        synchronized (memory) {
+            memory.put(patientId, cached);
+        }
+    }
+
     private void store(PatientFacts facts, Instant now) {
+        remember(facts.patientId(), new Cached(facts, now));
         Timestamp ts = Timestamp.from(now);
         int updated = jdbc.sql(
                         "UPDATE patient_state SET sex = :sex, birth_date = :birth, demographics_at = :now, updated_at = :now"

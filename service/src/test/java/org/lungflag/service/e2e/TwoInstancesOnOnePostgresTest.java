@@ -17,6 +17,8 @@ import java.util.List;
 import java.util.Map;
 import java.util.UUID;
 import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.Semaphore;
+import java.util.concurrent.TimeUnit;
 import org.hl7.fhir.r4.model.Bundle;
 import org.hl7.fhir.r4.model.Enumerations.AdministrativeGender;
 import org.hl7.fhir.r4.model.Flag;
@@ -38,7 +40,11 @@ import org.lungflag.service.reliability.Harness;
 import org.lungflag.service.testsupport.PostgresCondition;
 import org.lungflag.service.testsupport.RequiresPostgres;
 import org.springframework.boot.builder.SpringApplicationBuilder;
+import org.springframework.boot.context.event.ApplicationEnvironmentPreparedEvent;
+import org.springframework.boot.context.logging.LoggingApplicationListener;
+import org.springframework.context.ApplicationListener;
 import org.springframework.context.ConfigurableApplicationContext;
+import org.springframework.core.Ordered;
 import org.springframework.jdbc.core.simple.JdbcClient;
 
 /**
@@ -83,8 +89,38 @@ class TwoInstancesOnOnePostgresTest {
         balancer.targets(List.of(portA, portB));
     }
 
+    /**
+     * Spring Boot's logging set-up writes JVM-wide system properties, so two instances starting in one JVM must not run
+     * it at the same moment (it failed once with an "Unknown format" of the structured console log). Only that step is
+     * taken in turn; the schema migration and the Subscription registration still overlap.
+     */
+    private static final Semaphore LOGGING_SET_UP = new Semaphore(1);
+
+    private record AroundLoggingSetUp(boolean before)
+            implements ApplicationListener<ApplicationEnvironmentPreparedEvent>, Ordered {
+        @Override
+        public void onApplicationEvent(ApplicationEnvironmentPreparedEvent event) {
+            if (!before) {
+                LOGGING_SET_UP.release();
+                return;
+            }
+            try {
+                // bounded: if the other instance's set-up failed before releasing, this one goes on after a while
+                LOGGING_SET_UP.tryAcquire(60, TimeUnit.SECONDS);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
+        }
+
+        @Override
+        public int getOrder() {
+            return LoggingApplicationListener.DEFAULT_ORDER + (before ? -1 : 1);
+        }
+    }
+
     static ConfigurableApplicationContext instance(int port) {
         return new SpringApplicationBuilder(LungflagApplication.class)
+                .listeners(new AroundLoggingSetUp(true), new AroundLoggingSetUp(false))
                 .profiles("test")
                 .run(
                         "--server.port=" + port,
