@@ -97,7 +97,55 @@ public final class HookLoadBenchmark {
             long p50FlagMs,
             long p99FlagMs,
             double drainSeconds,
-            String loadAverage) {}
+            String loadAverage,
+            CpuPerObservation cpu) {}
+
+    /**
+     * CPU time the service's threads spent per Observation of a step (from the step's first send until it drained),
+     * in microseconds: the rest-hook's request threads, the inbox thread, and the scheduler threads (outbox delivery,
+     * clock, metrics). Unlike throughput it hardly depends on what else the machine runs, so it tells what the service
+     * could do with the machine to itself: the one inbox thread at most {@code 1e6 / inbox} per second, all service
+     * threads together at most {@code cores * 1e6 / total}.
+     */
+    public record CpuPerObservation(double hook, double inbox, double scheduling) {
+        double total() {
+            return hook + inbox + scheduling;
+        }
+
+        double inboxBound() {
+            return inbox <= 0 ? Double.NaN : 1e6 / inbox;
+        }
+
+        double machineBound(int cores) {
+            return total() <= 0 ? Double.NaN : cores * 1e6 / total();
+        }
+    }
+
+    /** CPU nanoseconds used so far by the service's threads, by role. */
+    private static Map<String, Long> serviceCpu() {
+        java.lang.management.ThreadMXBean threads = ManagementFactory.getThreadMXBean();
+        Map<String, Long> out = new HashMap<>(Map.of("hook", 0L, "inbox", 0L, "scheduling", 0L));
+        for (java.lang.management.ThreadInfo info : threads.getThreadInfo(threads.getAllThreadIds())) {
+            if (info == null) {
+                continue;
+            }
+            String name = info.getThreadName();
+            String role = name.startsWith("http-nio-") && name.contains("-exec-")
+                    ? "hook"
+                    : name.equals("lungflag-inbox") ? "inbox" : name.startsWith("scheduling-") ? "scheduling" : null;
+            long cpu = threads.getThreadCpuTime(info.getThreadId());
+            if (role != null && cpu > 0) {
+                out.merge(role, cpu, Long::sum);
+            }
+        }
+        return out;
+    }
+
+    private static CpuPerObservation cpuPerObservation(Map<String, Long> before, Map<String, Long> after, int n) {
+        java.util.function.ToDoubleFunction<String> per = role -> (after.get(role) - before.get(role)) / 1e3 / n;
+        return new CpuPerObservation(
+                per.applyAsDouble("hook"), per.applyAsDouble("inbox"), per.applyAsDouble("scheduling"));
+    }
 
     /** Everything one database's run measured. */
     public record Result(
@@ -386,6 +434,7 @@ public final class HookLoadBenchmark {
             throws Exception {
         AtomicInteger ok = new AtomicInteger();
         AtomicInteger refused = new AtomicInteger();
+        Map<String, Long> cpuBefore = serviceCpu();
         long t0 = System.nanoTime();
         long interval = 1_000_000_000L / rate;
         List<java.util.concurrent.Future<?>> futures = new ArrayList<>(batch.size());
@@ -429,6 +478,7 @@ public final class HookLoadBenchmark {
             Thread.sleep(500);
         }
         double drain = (System.nanoTime() - drainStart) / 1e9;
+        CpuPerObservation cpu = cpuPerObservation(cpuBefore, serviceCpu(), batch.size());
         List<String> ids = batch.stream().map(Sent::id).toList();
         // receipt to commit, per row, on the service's clock
         List<Long> commit = new ArrayList<>();
@@ -496,7 +546,8 @@ public final class HookLoadBenchmark {
                 percentile(flag, 50),
                 percentile(flag, 99),
                 drain,
-                load);
+                load,
+                cpu);
         out.printf(
                 Locale.ROOT,
                 "%-8s offered %5d/s: sent %6.0f/s, acked %d, refused %d, committed %6.0f/s, receipt->commit p50 %d ms"
@@ -514,6 +565,18 @@ public final class HookLoadBenchmark {
                 s.p99FlagMs(),
                 s.drainSeconds(),
                 s.loadAverage());
+        int cores = Runtime.getRuntime().availableProcessors();
+        out.printf(
+                Locale.ROOT,
+                "%-8s   service CPU per Observation: hook %.0f us, inbox %.0f us, scheduler %.0f us; with the machine to"
+                        + " itself the inbox thread allows at most %.0f/s, all service threads on %d cores at most %.0f/s%n",
+                db,
+                cpu.hook(),
+                cpu.inbox(),
+                cpu.scheduling(),
+                cpu.inboxBound(),
+                cores,
+                cpu.machineBound(cores));
         return s;
     }
 
