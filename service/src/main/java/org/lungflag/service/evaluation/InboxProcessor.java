@@ -246,6 +246,16 @@ public class InboxProcessor implements SmartLifecycle {
                 processor.applyAll(ready); // one transaction, one commit for the whole batch
                 hydrated.addAll(hydratedNow);
             } catch (RuntimeException batchFailed) {
+                if (transientFailure(batchFailed)) {
+                    // the database (or the FHIR server) is away: patient by patient would only fail as many times
+                    log.warn(
+                            "a batch of {} patients could not be processed now ({}); it will be retried",
+                            ready.size(),
+                            batchFailed.getClass().getSimpleName());
+                    ready.forEach(pw -> byPatient.get(pw.patientId()).forEach(w -> retry.add(w.inboxId())));
+                    inbox.release(retry, retryDelay);
+                    return items.size();
+                }
                 log.debug("batch of {} patients failed; applying them one by one", ready.size(), batchFailed);
                 for (PatientProcessor.PatientWork pw : ready) {
                     try {
