@@ -35,6 +35,9 @@ final class CompiledRule {
 
     final String cautionWithPulseOximetry;
 
+    /** The supports the rule applies to, in words, joined by "or" (for the support-not-qualifying detail). */
+    final String supportText;
+
     /** The longest window of an index aggregate (how much history to keep), or zero. */
     final Duration historyWindow;
 
@@ -87,6 +90,9 @@ final class CompiledRule {
             }
         }
         this.historyIndices = java.util.Collections.unmodifiableSet(codes);
+        this.supportText = String.join(
+                " or ",
+                definition.support().stream().sorted().map(Texts::support).toList());
         this.caution = org.lungflag.rules.catalog.Cautions.GENERAL + " " + definition.caution();
         this.cautionWithPulseOximetry = caution + " " + org.lungflag.rules.catalog.Cautions.PULSE_OXIMETRY;
     }
