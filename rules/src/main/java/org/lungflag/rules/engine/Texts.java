@@ -195,8 +195,15 @@ final class Texts {
     Explanation explain(CompiledRule rule, Scope scope, Tier tier, Episode episode, boolean active) {
         Used used = new Used();
         List<String> pieces = new ArrayList<>();
-        for (RuleLogic.BasisFragment f : rule.definition.logic().basis()) {
-            if (f.when() != null) {
+        List<RuleLogic.BasisFragment> fragments = rule.definition.logic().basis();
+        for (int i = 0; i < fragments.size(); i++) {
+            RuleLogic.BasisFragment f = fragments.get(i);
+            String variable = rule.basisVariables[i];
+            if (variable != null && scope.value(variable) instanceof Boolean b) {
+                if (!b) {
+                    continue; // a bare identifier holding a Boolean: what CEL would return
+                }
+            } else if (f.when() != null) {
                 try {
                     if (!Boolean.TRUE.equals(f.when().eval(scope))) {
                         continue;
