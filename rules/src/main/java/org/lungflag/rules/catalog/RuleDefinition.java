@@ -121,7 +121,12 @@ public final class RuleDefinition {
     }
 
     public Optional<Tier> tier(String code) {
-        return tiers.stream().filter(t -> t.code().equals(code)).findFirst();
+        for (Tier t : tiers) {
+            if (t.code().equals(code)) {
+                return Optional.of(t);
+            }
+        }
+        return Optional.empty();
     }
 
     public Temporal temporal() {

@@ -92,7 +92,26 @@ public final class Template {
             }
             s = s.substring(0, end);
         }
-        return s.equals("-0") || s.matches("-0\\.0*") ? s.substring(1) : s;
+        return isNegativeZero(s) ? s.substring(1) : s;
+    }
+
+    /** Whether {@code s} is {@code -0} or {@code -0.} followed by zeros only (the regex {@code -0\\.0*}, unrolled). */
+    private static boolean isNegativeZero(String s) {
+        if (s.length() < 2 || s.charAt(0) != '-' || s.charAt(1) != '0') {
+            return false;
+        }
+        if (s.length() == 2) {
+            return true;
+        }
+        if (s.charAt(2) != '.') {
+            return false;
+        }
+        for (int i = 3; i < s.length(); i++) {
+            if (s.charAt(i) != '0') {
+                return false;
+            }
+        }
+        return true;
     }
 
     private static final double[] POWERS = {1, 10, 100, 1000, 10000, 100000, 1000000};

@@ -35,6 +35,18 @@ final class CompiledRule {
 
     final String cautionWithPulseOximetry;
 
+    /**
+     * Per basis fragment, the variable its condition consists of when the condition is a bare identifier (e.g.
+     * {@code use_pf}), else null: such a condition is read from the scope without a CEL run when it holds a Boolean.
+     */
+    final String[] basisVariables;
+
+    /** Derived values whose expression is a bare identifier: name → that identifier. */
+    final Map<String, String> derivedVariables;
+
+    /** The supports the rule applies to, in words, joined by "or" (for the support-not-qualifying detail). */
+    final String supportText;
+
     /** The longest window of an index aggregate (how much history to keep), or zero. */
     final Duration historyWindow;
 
@@ -63,6 +75,20 @@ final class CompiledRule {
         Map<String, RuleLogic.Derived> dv = new HashMap<>();
         definition.logic().derived().forEach(x -> dv.put(x.name(), x));
         this.derived = Collections.unmodifiableMap(dv);
+        Map<String, String> aliases = new HashMap<>();
+        for (RuleLogic.Derived x : definition.logic().derived()) {
+            String v = bareIdentifier(x.expression());
+            if (v != null) {
+                aliases.put(x.name(), v);
+            }
+        }
+        this.derivedVariables = Collections.unmodifiableMap(aliases);
+        java.util.List<RuleLogic.BasisFragment> basis = definition.logic().basis();
+        this.basisVariables = new String[basis.size()];
+        for (int i = 0; i < basis.size(); i++) {
+            RuleLogic.BasisFragment f = basis.get(i);
+            basisVariables[i] = f.when() == null ? null : bareIdentifier(f.condition());
+        }
         Temporal t = definition.temporal();
         this.sustained = t.sustainedParameter() == null ? null : d.get(t.sustainedParameter());
         this.consecutiveCount = t.consecutiveCountParameter() == null
@@ -87,8 +113,53 @@ final class CompiledRule {
             }
         }
         this.historyIndices = java.util.Collections.unmodifiableSet(codes);
+        this.supportText = String.join(
+                " or ",
+                definition.support().stream().sorted().map(Texts::support).toList());
         this.caution = org.lungflag.rules.catalog.Cautions.GENERAL + " " + definition.caution();
         this.cautionWithPulseOximetry = caution + " " + org.lungflag.rules.catalog.Cautions.PULSE_OXIMETRY;
+    }
+
+    /** The identifier {@code expression} consists of (surrounding blanks aside), or null. */
+    static String bareIdentifier(String expression) {
+        if (expression == null) {
+            return null;
+        }
+        String e = expression.strip();
+        if (e.isEmpty() || !(Character.isLetter(e.charAt(0)) && e.charAt(0) < 128 || e.charAt(0) == '_')) {
+            return null;
+        }
+        for (int i = 1; i < e.length(); i++) {
+            char c = e.charAt(i);
+            boolean ok = (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '_';
+            if (!ok) {
+                return null;
+            }
+        }
+        return switch (e) {
+            case "true",
+                    "false",
+                    "null",
+                    "in",
+                    "as",
+                    "break",
+                    "const",
+                    "continue",
+                    "else",
+                    "for",
+                    "function",
+                    "if",
+                    "import",
+                    "let",
+                    "loop",
+                    "package",
+                    "namespace",
+                    "return",
+                    "var",
+                    "void",
+                    "while" -> null;
+            default -> e;
+        };
     }
 
     static String formatDuration(Duration d) {

@@ -247,12 +247,7 @@ public final class RuleEngine {
                         patientId,
                         DataQualityReason.SUPPORT_NOT_QUALIFYING,
                         "support in force is " + Texts.support(anchor.support.mode()) + "; this rule applies to "
-                                + String.join(
-                                        " or ",
-                                        def.support().stream()
-                                                .sorted()
-                                                .map(Texts::support)
-                                                .toList()));
+                                + rule.supportText);
             }
         }
         Scope scope = new Scope(anchor, rule, st);

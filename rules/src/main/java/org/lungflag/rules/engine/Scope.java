@@ -140,6 +140,10 @@ final class Scope implements CelVariableResolver {
     private Object computeLocal(String name) {
         RuleLogic.Derived d = rule.derived.get(name);
         if (d != null) {
+            String alias = rule.derivedVariables.get(name);
+            if (alias != null && value(alias) instanceof Boolean b) {
+                return b; // a bare identifier: CEL would return this very value
+            }
             try {
                 return d.program().eval(this);
             } catch (CelEvaluationException e) {

@@ -26,14 +26,36 @@ import org.lungflag.rules.measure.ValueRole;
 /** Renders advisory, basis and caution texts and collects what they used into an {@link Explanation}. */
 final class Texts {
 
+    /** Seconds of the earliest and latest instants a {@link java.time.LocalDateTime} can hold. */
+    private static final long MIN_LOCAL_SECOND = -31557014167219200L;
+
+    private static final long MAX_LOCAL_SECOND = 31556889864403199L;
+
     private final DateTimeFormatter timeFormat;
+    private final java.time.zone.ZoneRules zoneRules;
 
     Texts(ZoneId zone) {
         this.timeFormat = DateTimeFormatter.ofPattern("HH:mm", Locale.ROOT).withZone(zone);
+        this.zoneRules = zone.getRules();
     }
 
+    /** The clock time {@code HH:mm} in the display zone: what {@code timeFormat} prints, without a formatter run. */
     String time(Instant t) {
-        return timeFormat.format(t);
+        long local = t.getEpochSecond() + zoneRules.getOffset(t).getTotalSeconds();
+        if (local < MIN_LOCAL_SECOND + 86_400 || local > MAX_LOCAL_SECOND - 86_400) {
+            return timeFormat.format(t); // at the ends of the time-line, let the formatter decide (and refuse)
+        }
+        int secondOfDay = (int) Math.floorMod(local, 86_400L);
+        int hour = secondOfDay / 3600;
+        int minute = secondOfDay / 60 % 60;
+        char[] c = {
+            (char) ('0' + hour / 10),
+            (char) ('0' + hour % 10),
+            ':',
+            (char) ('0' + minute / 10),
+            (char) ('0' + minute % 10)
+        };
+        return new String(c);
     }
 
     static String support(SupportMode mode) {
@@ -48,8 +70,36 @@ final class Texts {
 
     /** Collects the measurements and indices that rendered texts referred to. */
     private static final class Used {
-        final Map<SourceRef, Measurement> measurements = new LinkedHashMap<>();
-        final Map<IndexCode, IndexValue> indices = new LinkedHashMap<>();
+        // made on first use: most renders of a placeholder-free or failing text add nothing
+        Map<SourceRef, Measurement> measurements;
+        Map<IndexCode, IndexValue> indices;
+
+        void measurement(Measurement m) {
+            if (measurements == null) {
+                measurements = new LinkedHashMap<>();
+            }
+            measurements.put(m.source(), m);
+        }
+
+        void index(IndexValue iv) {
+            if (indices == null) {
+                indices = new LinkedHashMap<>();
+            }
+            indices.put(iv.code(), iv);
+        }
+
+        void addAll(Used other) {
+            if (other.measurements != null) {
+                for (Measurement m : other.measurements.values()) {
+                    measurement(m);
+                }
+            }
+            if (other.indices != null) {
+                for (IndexValue iv : other.indices.values()) {
+                    index(iv);
+                }
+            }
+        }
     }
 
     /** Renders one template, or returns null when a placeholder is not available. */
@@ -57,8 +107,7 @@ final class Texts {
         Used local = used == null ? null : new Used();
         String text = template.render(ph -> placeholder(ph, scope, tier, episode, local));
         if (text != null && used != null) {
-            used.measurements.putAll(local.measurements);
-            used.indices.putAll(local.indices);
+            used.addAll(local);
         }
         return text;
     }
@@ -95,7 +144,7 @@ final class Texts {
                 return null;
             }
             if (used != null) {
-                used.measurements.put(m.source(), m);
+                used.measurement(m);
             }
             return switch (ph.attribute()) {
                 case "time" -> time(m.time());
@@ -109,10 +158,10 @@ final class Texts {
                 return null;
             }
             if (used != null) {
-                used.indices.put(iv.code(), iv);
+                used.index(iv);
                 for (Measurement m : iv.inputs()) {
                     if (m != null) {
-                        used.measurements.put(m.source(), m);
+                        used.measurement(m);
                     }
                 }
             }
@@ -139,12 +188,22 @@ final class Texts {
         return String.valueOf(v);
     }
 
+    private static final java.util.Comparator<UsedMeasurement> MEASUREMENT_ORDER =
+            java.util.Comparator.comparing(UsedMeasurement::time).thenComparing(UsedMeasurement::source);
+
     /** The explanation of an evaluation at an anchor. */
     Explanation explain(CompiledRule rule, Scope scope, Tier tier, Episode episode, boolean active) {
         Used used = new Used();
         List<String> pieces = new ArrayList<>();
-        for (RuleLogic.BasisFragment f : rule.definition.logic().basis()) {
-            if (f.when() != null) {
+        List<RuleLogic.BasisFragment> fragments = rule.definition.logic().basis();
+        for (int i = 0; i < fragments.size(); i++) {
+            RuleLogic.BasisFragment f = fragments.get(i);
+            String variable = rule.basisVariables[i];
+            if (variable != null && scope.value(variable) instanceof Boolean b) {
+                if (!b) {
+                    continue; // a bare identifier holding a Boolean: what CEL would return
+                }
+            } else if (f.when() != null) {
                 try {
                     if (!Boolean.TRUE.equals(f.when().eval(scope))) {
                         continue;
@@ -166,23 +225,24 @@ final class Texts {
         }
         boolean spo2 = false;
         List<UsedMeasurement> measurements = new ArrayList<>();
-        for (Measurement m : used.measurements.values()) {
-            measurements.add(UsedMeasurement.of(m));
-            spo2 |= m.kind() == QuantityKind.SPO2;
+        if (used.measurements != null) {
+            for (Measurement m : used.measurements.values()) {
+                measurements.add(UsedMeasurement.of(m));
+                spo2 |= m.kind() == QuantityKind.SPO2;
+            }
         }
-        measurements.sort(java.util.Comparator.comparing(UsedMeasurement::time).thenComparing(UsedMeasurement::source));
+        measurements.sort(MEASUREMENT_ORDER);
         List<UsedIndex> indices = new ArrayList<>();
-        for (IndexValue iv : used.indices.values()) {
-            indices.add(new UsedIndex(
-                    iv.code(),
-                    iv.value(),
-                    iv.code().unit(),
-                    iv.formula(),
-                    iv.inputs().stream()
-                            .filter(java.util.Objects::nonNull)
-                            .map(Measurement::source)
-                            .toList(),
-                    iv.notes()));
+        if (used.indices != null) {
+            for (IndexValue iv : used.indices.values()) {
+                List<SourceRef> inputs = new ArrayList<>(iv.inputs().size());
+                for (Measurement m : iv.inputs()) {
+                    if (m != null) {
+                        inputs.add(m.source());
+                    }
+                }
+                indices.add(new UsedIndex(iv.code(), iv.value(), iv.code().unit(), iv.formula(), inputs, iv.notes()));
+            }
         }
         return new Explanation(measurements, indices, rule.parameterTexts, advisory, basis, caution(rule, spo2));
     }

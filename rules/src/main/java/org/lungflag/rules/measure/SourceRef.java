@@ -43,8 +43,60 @@ public record SourceRef(String resourceType, String id, String version) implemen
         return version == null ? unversioned() : unversioned() + "/_history/" + version;
     }
 
+    /**
+     * Orders as {@code toString().compareTo(other.toString())} does (same sign and value), without building either
+     * string: timelines and explanations compare references often.
+     */
     @Override
     public int compareTo(SourceRef other) {
-        return toString().compareTo(other.toString());
+        int start = 0;
+        if (resourceType.equals(other.resourceType)) {
+            start = resourceType.length() + 1; // the common "Type/" prefix
+            if (id.equals(other.id)) {
+                start += id.length();
+                if (Objects.equals(version, other.version)) {
+                    return 0;
+                }
+            }
+        }
+        int la = length();
+        int lb = other.length();
+        int n = Math.min(la, lb);
+        for (int i = start; i < n; i++) {
+            char a = charAt(i);
+            char b = other.charAt(i);
+            if (a != b) {
+                return a - b;
+            }
+        }
+        return la - lb;
+    }
+
+    private static final String HISTORY = "/_history/";
+
+    /** The length of {@link #toString()}. */
+    private int length() {
+        int n = resourceType.length() + 1 + id.length();
+        return version == null ? n : n + HISTORY.length() + version.length();
+    }
+
+    /** The character at {@code i} of {@link #toString()}. */
+    private char charAt(int i) {
+        if (i < resourceType.length()) {
+            return resourceType.charAt(i);
+        }
+        i -= resourceType.length();
+        if (i == 0) {
+            return '/';
+        }
+        i -= 1;
+        if (i < id.length()) {
+            return id.charAt(i);
+        }
+        i -= id.length();
+        if (i < HISTORY.length()) {
+            return HISTORY.charAt(i);
+        }
+        return version.charAt(i - HISTORY.length());
     }
 }

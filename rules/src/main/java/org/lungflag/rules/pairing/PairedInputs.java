@@ -21,12 +21,16 @@ import org.lungflag.rules.measure.SupportState;
  */
 public final class PairedInputs {
 
+    private static final int KIND_COUNT = QuantityKind.values().length;
+
     private final Instant anchor;
     private final Map<QuantityKind, Measurement> settings;
     private final Map<QuantityKind, Measurement> measured;
     private final SupportState support;
     private final PositionState position;
     private final List<MissingInput> missing;
+    /** {@link #missing} by kind ordinal, for {@link #missingOrNull}. */
+    private final MissingInput[] missingByKind;
 
     PairedInputs(
             Instant anchor,
@@ -41,6 +45,52 @@ public final class PairedInputs {
         this.support = support;
         this.position = position;
         this.missing = List.copyOf(missing);
+        this.missingByKind = byKind(this.missing);
+    }
+
+    /** For {@link Pairing}: takes the maps as they are (the pairing made them and lets go of them). */
+    private PairedInputs(
+            Instant anchor,
+            EnumMap<QuantityKind, Measurement> settings,
+            EnumMap<QuantityKind, Measurement> measured,
+            SupportState support,
+            PositionState position,
+            List<MissingInput> missing,
+            boolean owned) {
+        this.anchor = anchor;
+        this.settings = settings.isEmpty() ? Map.of() : settings;
+        this.measured = measured.isEmpty() ? Map.of() : measured;
+        this.support = support;
+        this.position = position;
+        this.missing = List.copyOf(missing);
+        this.missingByKind = byKind(this.missing);
+    }
+
+    static PairedInputs owning(
+            Instant anchor,
+            Map<QuantityKind, Measurement> settings,
+            Map<QuantityKind, Measurement> measured,
+            SupportState support,
+            PositionState position,
+            List<MissingInput> missing) {
+        return new PairedInputs(
+                anchor,
+                (EnumMap<QuantityKind, Measurement>) settings,
+                (EnumMap<QuantityKind, Measurement>) measured,
+                support,
+                position,
+                missing,
+                true);
+    }
+
+    private static MissingInput[] byKind(List<MissingInput> missing) {
+        MissingInput[] out = new MissingInput[KIND_COUNT];
+        for (MissingInput m : missing) {
+            if (out[m.kind().ordinal()] == null) {
+                out[m.kind().ordinal()] = m; // the first, as a scan of the list finds it
+            }
+        }
+        return out;
     }
 
     /** The anchor (blood gas collection time, or the reading that triggered the evaluation). */
@@ -91,12 +141,7 @@ public final class PairedInputs {
 
     /** What the pairing says about a kind it did not find, or {@code null} when the kind was found. */
     public MissingInput missingOrNull(QuantityKind kind) {
-        for (MissingInput m : missing) {
-            if (m.kind() == kind) {
-                return m;
-            }
-        }
-        return null;
+        return missingByKind[kind.ordinal()];
     }
 
     public Optional<SupportState> support() {

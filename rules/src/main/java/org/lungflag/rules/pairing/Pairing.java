@@ -9,7 +9,6 @@ import java.util.Map;
 import java.util.Objects;
 import org.lungflag.rules.measure.Measurement;
 import org.lungflag.rules.measure.QuantityKind;
-import org.lungflag.rules.measure.ValueRole;
 import org.lungflag.rules.timeline.PatientTimeline;
 
 /**
@@ -30,6 +29,8 @@ public final class Pairing {
         return settings;
     }
 
+    private static final QuantityKind[] KINDS = QuantityKind.values();
+
     /** Pairs every numeric kind at {@code anchor}. */
     public PairedInputs at(PatientTimeline timeline, Instant anchor) {
         Map<QuantityKind, Measurement> set = new EnumMap<>(QuantityKind.class);
@@ -38,21 +39,26 @@ public final class Pairing {
         Duration longestLookBack = settings.settingLookBack().compareTo(settings.measurementLookBack()) >= 0
                 ? settings.settingLookBack()
                 : settings.measurementLookBack();
-        for (QuantityKind kind : QuantityKind.values()) {
+        Measurement[] found = new Measurement[2];
+        for (QuantityKind kind : KINDS) {
             if (kind.isCategorical()) {
                 continue;
             }
             Duration settingLookBack = kind.staysInForce() ? null : settings.settingLookBack();
             Duration measurementLookBack = kind.staysInForce() ? null : settings.measurementLookBack();
-            timeline.latestAtOrBefore(kind, ValueRole.SETTING, anchor, settingLookBack)
-                    .ifPresent(m -> set.put(kind, m));
-            timeline.latestAtOrBefore(kind, ValueRole.MEASUREMENT, anchor, measurementLookBack)
-                    .ifPresent(m -> measured.put(kind, m));
-            if (!set.containsKey(kind) && !measured.containsKey(kind)) {
+            // one search of the series for both roles, as two latestAtOrBefore calls would find them
+            timeline.latestSettingAndMeasurement(kind, anchor, settingLookBack, measurementLookBack, found);
+            if (found[0] != null) {
+                set.put(kind, found[0]);
+            }
+            if (found[1] != null) {
+                measured.put(kind, found[1]);
+            }
+            if (found[0] == null && found[1] == null) {
                 missing.add(new MissingInput(kind, kind.staysInForce() ? null : longestLookBack));
             }
         }
-        return new PairedInputs(
+        return PairedInputs.owning(
                 anchor,
                 set,
                 measured,

@@ -341,6 +341,58 @@ public final class PatientTimeline {
         return Optional.empty();
     }
 
+    /**
+     * {@link #latestAtOrBefore} for both roles in one search: {@code out[0]} gets the latest setting (within {@code
+     * settingLookBack}), {@code out[1]} the latest measurement (within {@code measurementLookBack}); {@code null}
+     * where there is none. A {@code null} look-back means no limit.
+     */
+    public void latestSettingAndMeasurement(
+            QuantityKind kind, Instant at, Duration settingLookBack, Duration measurementLookBack, Measurement[] out) {
+        out[0] = null;
+        out[1] = null;
+        MeasurementSeries s = series[kind.ordinal()];
+        if (s == null) {
+            return;
+        }
+        boolean settingOpen = true;
+        boolean measurementOpen = true;
+        long settingSeconds = Long.MIN_VALUE;
+        int settingNanos = 0;
+        if (settingLookBack != null) {
+            Instant earliest = at.minus(settingLookBack);
+            settingSeconds = earliest.getEpochSecond();
+            settingNanos = earliest.getNano();
+        }
+        long measurementSeconds = Long.MIN_VALUE;
+        int measurementNanos = 0;
+        if (measurementLookBack != null) {
+            Instant earliest = at.minus(measurementLookBack);
+            measurementSeconds = earliest.getEpochSecond();
+            measurementNanos = earliest.getNano();
+        }
+        for (int i = s.indexAfter(at.getEpochSecond(), at.getNano()) - 1;
+                i >= 0 && (settingOpen || measurementOpen);
+                i--) {
+            if (settingOpen && settingLookBack != null && s.compareTime(i, settingSeconds, settingNanos) < 0) {
+                settingOpen = false;
+            }
+            if (measurementOpen
+                    && measurementLookBack != null
+                    && s.compareTime(i, measurementSeconds, measurementNanos) < 0) {
+                measurementOpen = false;
+            }
+            if (s.isMeasurement(i)) {
+                if (measurementOpen) {
+                    out[1] = s.get(i, resources, unitTable);
+                    measurementOpen = false;
+                }
+            } else if (settingOpen) {
+                out[0] = s.get(i, resources, unitTable);
+                settingOpen = false;
+            }
+        }
+    }
+
     /** The respiratory support in force at {@code at}: the latest state change at or before it. */
     public Optional<SupportState> supportAt(Instant at) {
         return latestState(QuantityKind.RESPIRATORY_SUPPORT, at, SupportState.class);

@@ -21,7 +21,15 @@ class TemplateTest {
         "8.502678, 1, 8.5",
         "12.0, 1, 12.0",
         "0.5, 2, 0.50",
-        "1234567.891, 2, 1234567.89"
+        "1234567.891, 2, 1234567.89",
+        // negative values that round to zero print without a sign (common practice, no source)
+        "-0.0, 1, 0.0",
+        "-0.0, -1, 0",
+        "-0.004, -1, 0",
+        "-0.00000000001, 9, 0.000000000",
+        "-0.0000000004, 9, 0.000000000",
+        "-0.5, 0, -1",
+        "-10.25, 1, -10.3"
     })
     void numbers_render_with_fixed_or_up_to_two_decimals_rounding_half_up(double value, int decimals, String text) {
         assertThat(Template.formatNumber(value, decimals)).isEqualTo(text);

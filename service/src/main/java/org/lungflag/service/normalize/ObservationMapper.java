@@ -52,8 +52,6 @@ public final class ObservationMapper {
     private static final String OBSERVATION_CATEGORY = "http://terminology.hl7.org/CodeSystem/observation-category";
 
     /** FHIR R4 {@code id} (and {@code versionId}) syntax, https://hl7.org/fhir/R4/datatypes.html#id. */
-    private static final java.util.regex.Pattern FHIR_ID = java.util.regex.Pattern.compile("[A-Za-z0-9\\-.]{1,64}");
-
     static final String FHIR_ID_RULE = "1 to 64 of A-Z, a-z, 0-9, '-' and '.'";
 
     private final CodeMap codes;
@@ -235,14 +233,14 @@ public final class ObservationMapper {
             List<PartRefusal> refused,
             boolean valueOptional) {
         QuantityKind kind = m.kind();
-        String where = source.unversioned() + " " + part;
         if (kind == QuantityKind.RESPIRATORY_SUPPORT) {
             Optional<SupportMode> mode = supportMode(value);
             if (mode.isEmpty()) {
                 refused.add(new PartRefusal(
                         part,
                         DataQualityReason.MISSING_VALUE,
-                        where + " (respiratory support) needs a valueCodeableConcept from " + SUPPORT_MODE_SYSTEM));
+                        where(source, part) + " (respiratory support) needs a valueCodeableConcept from "
+                                + SUPPORT_MODE_SYSTEM));
                 return;
             }
             states.add(new SupportState(mode.get(), flowOf(siblings), time, source));
@@ -254,7 +252,8 @@ public final class ObservationMapper {
                 refused.add(new PartRefusal(
                         part,
                         DataQualityReason.MISSING_VALUE,
-                        where + " (body position) needs a valueCodeableConcept from " + BODY_POSITION_SYSTEM));
+                        where(source, part) + " (body position) needs a valueCodeableConcept from "
+                                + BODY_POSITION_SYSTEM));
                 return;
             }
             states.add(new PositionState(position.get(), time, source));
@@ -265,7 +264,7 @@ public final class ObservationMapper {
                 refused.add(new PartRefusal(
                         part,
                         DataQualityReason.MISSING_VALUE,
-                        where + " (" + kind.label() + ") has no numeric valueQuantity"
+                        where(source, part) + " (" + kind.label() + ") has no numeric valueQuantity"
                                 + (value == null ? "" : " (it has a " + value.fhirType() + ")")
                                 + "."));
             }
@@ -312,6 +311,11 @@ public final class ObservationMapper {
                     QuantityKind.SPO2, ValueRole.MEASUREMENT, SpecimenKind.NOT_APPLICABLE, "pulse-oximetry evidence"));
         }
         return Optional.of(chosen);
+    }
+
+    /** Where a refused part is: built only when a part is refused. */
+    private static String where(SourceRef source, String part) {
+        return source.unversioned() + " " + part;
     }
 
     private static boolean hasCategory(List<CodeableConcept> categories, String system, String code) {
@@ -367,7 +371,20 @@ public final class ObservationMapper {
     /** {@code Patient/123} or an absolute URL ending in it; anything else is not a patient subject. */
     /** Whether {@code s} is a valid FHIR R4 id (resource ids and version ids alike). */
     public static boolean isFhirId(String s) {
-        return s != null && FHIR_ID.matcher(s).matches();
+        // FHIR R4 id: [A-Za-z0-9\-.]{1,64}, checked by hand rather than with a regex matcher per call (up to three
+        // ids per Observation version)
+        if (s == null || s.isEmpty() || s.length() > 64) {
+            return false;
+        }
+        for (int i = 0; i < s.length(); i++) {
+            char c = s.charAt(i);
+            boolean ok =
+                    (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || (c >= '0' && c <= '9') || c == '-' || c == '.';
+            if (!ok) {
+                return false;
+            }
+        }
+        return true;
     }
 
     static String patientId(Reference subject) {

@@ -246,4 +246,34 @@ class ObservationMapperTest {
                 ",\"valueQuantity\":{\"value\":80,\"system\":\"http://example.org/units\",\"code\":\"mmHg\"}");
         assertThat(((Usable) map(json)).readings().get(0).unit()).isNull();
     }
+
+    /** The FHIR R4 id datatype's regex, as published in the R4 specification (datatypes.html#id). */
+    private static final java.util.regex.Pattern R4_ID = java.util.regex.Pattern.compile("[A-Za-z0-9\\-\\.]{1,64}");
+
+    @Test
+    void acceptsExactlyTheIdsTheFhirR4IdRegexAccepts() {
+        // FHIR R4 datatypes "id": [A-Za-z0-9\-\.]{1,64}; examples of our own, checked against the published regex
+        for (String id : new String[] {"o1", "8812", "obs-0012.v2", "A-Z.a-z-0-9", "x".repeat(64)}) {
+            assertThat(ObservationMapper.isFhirId(id)).as(id).isTrue();
+            assertThat(R4_ID.matcher(id).matches()).as(id).isTrue();
+        }
+        for (String id : new String[] {"", "x".repeat(65), "o 1", "o_1", "o/1", "é1", "o1\n", "o1#"}) {
+            assertThat(ObservationMapper.isFhirId(id)).as(id).isFalse();
+            assertThat(R4_ID.matcher(id).matches()).as(id).isFalse();
+        }
+        assertThat(ObservationMapper.isFhirId(null)).isFalse();
+        java.util.Random random = new java.util.Random(8);
+        String alphabet = "aZ09-._/ #:\u00e9\u0000";
+        for (int i = 0; i < 20_000; i++) {
+            StringBuilder sb = new StringBuilder();
+            int n = random.nextInt(70);
+            for (int k = 0; k < n; k++) {
+                sb.append(random.nextInt(8) == 0 ? alphabet.charAt(random.nextInt(alphabet.length())) : 'a');
+            }
+            String id = sb.toString();
+            assertThat(ObservationMapper.isFhirId(id))
+                    .as(id)
+                    .isEqualTo(R4_ID.matcher(id).matches());
+        }
+    }
 }
