@@ -24,6 +24,7 @@ import org.lungflag.rules.patient.PatientFacts;
 import org.lungflag.rules.timeline.PatientTimeline;
 import org.lungflag.service.normalize.NormalizedResource;
 import org.lungflag.service.writeback.AdvisoryResources;
+import org.lungflag.service.writeback.DerivedIndexJson;
 
 /**
  * The pipeline without a database or a FHIR server: normalized resources of one patient, in clinical order,
@@ -172,6 +173,23 @@ public final class OfflineEvaluation {
                 out.computeIfAbsent(
                         index.code().code() + "@" + e.at(),
                         k -> AdvisoryResources.derivedIndex(run.patientId(), index, e.at(), issued));
+            }
+        }
+        return List.copyOf(out.values());
+    }
+
+    /**
+     * The same derived-index Observations as {@link #indices}, in the same order, as JSON lines written by {@link
+     * DerivedIndexJson} (the text HAPI's encoder gives for them, without building them).
+     */
+    public List<String> indicesJson(PatientRun run, Instant issued, DerivedIndexJson json) {
+        Map<String, String> out = new LinkedHashMap<>();
+        String issuedText = DerivedIndexJson.instantText(issued);
+        for (RuleEvaluation e : run.evaluations()) {
+            for (UsedIndex index : e.explanation().indices()) {
+                out.computeIfAbsent(
+                        index.code().code() + "@" + e.at(),
+                        k -> json.encode(run.patientId(), index, e.at(), issued, issuedText));
             }
         }
         return List.copyOf(out.values());
