@@ -183,17 +183,20 @@ public final class OfflineEvaluation {
      * DerivedIndexJson} (the text HAPI's encoder gives for them, without building them).
      */
     public List<String> indicesJson(PatientRun run, Instant issued, DerivedIndexJson json) {
-        Map<String, String> out = new LinkedHashMap<>();
+        // keyed like indices() (one per index code and anchor), without writing the anchor out for each
+        Map<IndexAt, String> out = new LinkedHashMap<>();
         String issuedText = DerivedIndexJson.instantText(issued);
         for (RuleEvaluation e : run.evaluations()) {
             for (UsedIndex index : e.explanation().indices()) {
                 out.computeIfAbsent(
-                        index.code().code() + "@" + e.at(),
+                        new IndexAt(index.code().code(), e.at()),
                         k -> json.encode(run.patientId(), index, e.at(), issued, issuedText));
             }
         }
         return List.copyOf(out.values());
     }
+
+    private record IndexAt(String code, Instant at) {}
 
     /** A stable urn:uuid for a resource identified by system and value (a Bundle's fullUrl). */
     public static String urn(String system, String value) {
