@@ -903,12 +903,20 @@ final class Replay {
             flagsWritten++;
         }
         PatientRun run = r.run();
-        Map<String, Boolean> seenIndex = new HashMap<>();
+        Map<IndexAt, Boolean> seenIndex = new HashMap<>();
+        StringBuilder row = rowBuffer;
+        Instant rowTime = null;
+        String rowTimeText = null;
         for (RuleEvaluation e : run.evaluations()) {
-            csv.write(csvRow(e));
+            if (!e.at().equals(rowTime)) {
+                rowTime = e.at();
+                rowTimeText = rowTime.toString();
+            }
+            row.setLength(0);
+            csv.append(csvRow(row, e, rowTimeText));
             evaluationRows++;
             for (UsedIndex u : e.explanation().indices()) {
-                if (seenIndex.put(u.code().code() + "@" + e.at(), Boolean.TRUE) == null) {
+                if (seenIndex.put(new IndexAt(u.code(), e.at()), Boolean.TRUE) == null) {
                     distributions
                             .computeIfAbsent(u.code().code(), k -> new IndexDistribution(k, u.unit()))
                             .add(r.id(), e.at().getEpochSecond(), u.value());
@@ -1012,7 +1020,14 @@ final class Replay {
         charts.add(new PatientChart(id, series, run.episodes(), from, to));
     }
 
-    private static String csvRow(RuleEvaluation e) {
+    /** One index and anchor time (the distributions count each once per patient). */
+    private record IndexAt(IndexCode code, Instant at) {}
+
+    /** The row buffer of {@link #consume} (reading thread only). */
+    private final StringBuilder rowBuffer = new StringBuilder(256);
+
+    /** One evaluations.csv row, appended to {@code row}; {@code time} is {@code e.at().toString()}. */
+    private static StringBuilder csvRow(StringBuilder row, RuleEvaluation e, String time) {
         StringBuilder idx = new StringBuilder();
         for (UsedIndex u : e.explanation().indices()) {
             if (!idx.isEmpty()) {
@@ -1020,24 +1035,23 @@ final class Replay {
             }
             idx.append(u.code().code()).append('=').append(round(u.value()));
         }
-        return String.join(
-                        ",",
-                        csv(e.patientId()),
-                        csv(e.ruleId()),
-                        csv(e.ruleVersion()),
-                        e.at().toString(),
-                        e.outcome().name(),
-                        csv(e.tier()),
-                        e.reason() == null ? "" : e.reason().code(),
-                        e.episode() == null ? "" : e.episode().key(),
-                        csv(idx.toString()),
-                        csv(e.detail()))
-                + "\n";
+        row.append(csv(e.patientId())).append(',');
+        row.append(csv(e.ruleId())).append(',');
+        row.append(csv(e.ruleVersion())).append(',');
+        row.append(time).append(',');
+        row.append(e.outcome().name()).append(',');
+        row.append(csv(e.tier())).append(',');
+        row.append(e.reason() == null ? "" : e.reason().code()).append(',');
+        row.append(e.episode() == null ? "" : e.episode().key()).append(',');
+        row.append(csv(idx.toString())).append(',');
+        return row.append(csv(e.detail())).append('\n');
     }
+
+    private static final java.math.MathContext SIX_DIGITS = new java.math.MathContext(6);
 
     static String round(double v) {
         return new java.math.BigDecimal(v)
-                .round(new java.math.MathContext(6))
+                .round(SIX_DIGITS)
                 .stripTrailingZeros()
                 .toPlainString();
     }
