@@ -762,7 +762,7 @@ final class Replay {
                 for (String id : ids) {
                     normalizeDeferred(byPatient.get(id));
                 }
-                // patients are independent: the workers evaluate up to PATIENTS_IN_FLIGHT ahead while this thread
+                // patients are independent: the workers evaluate a few patients ahead while this thread
                 // writes and counts the results in patient order
                 ArrayDeque<Future<PatientResult>> inFlight = new ArrayDeque<>();
                 for (String id : ids) {
@@ -772,7 +772,7 @@ final class Replay {
                         progress.evaluating(++done, total, false);
                         continue;
                     }
-                    if (inFlight.size() >= PATIENTS_IN_FLIGHT) {
+                    if (inFlight.size() >= patientsInFlight()) {
                         consume(await(inFlight.poll()), indices, advisories, csv);
                         progress.evaluating(++done, total, false);
                     }
@@ -791,8 +791,13 @@ final class Replay {
         progress.evaluating(done, total, true);
     }
 
-    /** Patients evaluated ahead of the one being written (bounds the results held in memory). */
-    static final int PATIENTS_IN_FLIGHT = 64;
+    /**
+     * Patients evaluated ahead of the one being written: enough to keep every worker busy while this thread writes,
+     * few enough that the results held (in the benchmark a patient's two days are ~180 kB of derived-index JSON) stay small.
+     */
+    private int patientsInFlight() {
+        return Math.max(8, 4 * tuning.threads());
+    }
 
     private final ThreadLocal<IParser> encoders;
 
