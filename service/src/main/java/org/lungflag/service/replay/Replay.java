@@ -793,7 +793,8 @@ final class Replay {
 
     /**
      * Patients evaluated ahead of the one being written: enough to keep every worker busy while this thread writes,
-     * few enough that the results held (in the benchmark a patient's two days are ~180 kB of derived-index JSON) stay small.
+     * few enough that the results held stay small (in the benchmark a patient's two days are ~180 kB of
+     * derived-index JSON).
      */
     private int patientsInFlight() {
         return Math.max(8, 4 * tuning.threads());
