@@ -24,6 +24,7 @@ import org.lungflag.rules.patient.PatientFacts;
 import org.lungflag.rules.timeline.PatientTimeline;
 import org.lungflag.service.normalize.NormalizedResource;
 import org.lungflag.service.writeback.AdvisoryResources;
+import org.lungflag.service.writeback.DerivedIndexJson;
 
 /**
  * The pipeline without a database or a FHIR server: normalized resources of one patient, in clinical order,
@@ -176,6 +177,26 @@ public final class OfflineEvaluation {
         }
         return List.copyOf(out.values());
     }
+
+    /**
+     * The same derived-index Observations as {@link #indices}, in the same order, as JSON lines written by {@link
+     * DerivedIndexJson} (the text HAPI's encoder gives for them, without building them).
+     */
+    public List<String> indicesJson(PatientRun run, Instant issued, DerivedIndexJson json) {
+        // keyed like indices() (one per index code and anchor), without writing the anchor out for each
+        Map<IndexAt, String> out = new LinkedHashMap<>();
+        String issuedText = DerivedIndexJson.instantText(issued);
+        for (RuleEvaluation e : run.evaluations()) {
+            for (UsedIndex index : e.explanation().indices()) {
+                out.computeIfAbsent(
+                        new IndexAt(index.code().code(), e.at()),
+                        k -> json.encode(run.patientId(), index, e.at(), issued, issuedText));
+            }
+        }
+        return List.copyOf(out.values());
+    }
+
+    private record IndexAt(String code, Instant at) {}
 
     /** A stable urn:uuid for a resource identified by system and value (a Bundle's fullUrl). */
     public static String urn(String system, String value) {

@@ -19,6 +19,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.ArrayDeque;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.HashMap;
@@ -27,6 +28,10 @@ import java.util.List;
 import java.util.Map;
 import java.util.Optional;
 import java.util.TreeMap;
+import java.util.concurrent.ExecutionException;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.Future;
 import java.util.zip.GZIPInputStream;
 import org.hl7.fhir.instance.model.api.IBaseResource;
 import org.hl7.fhir.r4.model.CodeableConcept;
@@ -68,6 +73,7 @@ import org.lungflag.service.replay.Spill.Entry;
 import org.lungflag.service.replay.Spill.PatientEntry;
 import org.lungflag.service.replay.Spill.ResourceEntry;
 import org.lungflag.service.replay.Spill.SpecimenEntry;
+import org.lungflag.service.writeback.DerivedIndexJson;
 
 /**
  * The replay itself: NDJSON in, the design.md output files out, through the live service's normalizer and {@link
@@ -89,6 +95,41 @@ final class Replay {
 
     record Input(Path path, String name) {}
 
+    /**
+     * How replay spreads its work over threads; no output depends on it (ReplayCommandTest runs both and compares
+     * every file byte for byte).
+     *
+     * @param threads threads that parse and normalize lines in pass 1 and evaluate patients in pass 2; 1 does all of
+     *     it on the calling thread, one line and one patient after the other
+     * @param hapiIndices build each derived-index Observation with HAPI and encode it with HAPI's parser (the path
+     *     {@link org.lungflag.service.writeback.DerivedIndexJson} is checked against) instead of writing its JSON
+     *     directly
+     */
+    record Tuning(int threads, boolean hapiIndices) {
+
+        Tuning {
+            if (threads < 1) {
+                throw new IllegalArgumentException("threads must be at least 1: " + threads);
+            }
+        }
+
+        /** One thread per available processor, derived indices written directly. */
+        static Tuning defaults() {
+            return new Tuning(Math.max(1, Runtime.getRuntime().availableProcessors()), false);
+        }
+
+        /** Everything on one thread and through HAPI: the reference the faster paths are compared with. */
+        static Tuning reference() {
+            return new Tuning(1, true);
+        }
+    }
+
+    /** Lines handed to a worker at once in pass 1. */
+    static final int LINES_PER_BATCH = 256;
+
+    /** A batch is handed over early once it holds this many characters, so huge lines do not pile up. */
+    static final int CHARS_PER_BATCH = 1 << 20;
+
     private final List<Input> inputs;
     private final Path out;
     private final RuleCatalog catalog;
@@ -97,9 +138,12 @@ final class Replay {
     private final List<String> sweepValues;
     private final Progress progress;
     private final long bytesPerBucket;
+    private final Tuning tuning;
 
     private final FhirContext fhir;
     private final IParser parser;
+    private final ThreadLocal<IParser> parsers;
+    private final DerivedIndexJson indexJson;
     private final IParser writer;
     private final Normalizer normalizer;
     private final OfflineEvaluation offline;
@@ -146,8 +190,10 @@ final class Replay {
             String sweepKey,
             List<String> sweepValues,
             Progress progress,
-            long bytesPerBucket) {
+            long bytesPerBucket,
+            Tuning tuning) {
         this.bytesPerBucket = bytesPerBucket;
+        this.tuning = tuning;
         this.inputs = inputs;
         this.out = out;
         this.catalog = catalog;
@@ -162,6 +208,9 @@ final class Replay {
         this.encoders = ThreadLocal.withInitial(context::newJsonParser);
         // lenient like the live service's parser, but quiet: a stray element is not worth a log line per row
         this.parser = fhir.newJsonParser().setParserErrorHandler(new LenientErrorHandler(false));
+        this.parsers = ThreadLocal.withInitial(
+                () -> context.newJsonParser().setParserErrorHandler(new LenientErrorHandler(false)));
+        this.indexJson = new DerivedIndexJson(fhir);
         this.writer = fhir.newJsonParser();
         this.normalizer = Pipelines.normalizer(
                 Pipelines.codeMap(fhir, ConformancePackage.load(fhir), settings.conceptMap()), settings.futureSkew());
@@ -244,73 +293,210 @@ final class Replay {
 
     // ------------------------------------------------------------------------------------------------ pass 1
 
-    private void readAll(Spill spill) throws IOException {
-        long bytesBefore = 0;
-        for (int f = 0; f < inputs.size(); f++) {
-            Input in = inputs.get(f);
-            long[] counted = {0};
-            try (InputStream raw = Files.newInputStream(in.path());
-                    InputStream counting = new FilterInputStream(raw) {
-                        @Override
-                        public int read() throws IOException {
-                            int b = super.read();
-                            if (b >= 0) {
-                                counted[0]++;
-                            }
-                            return b;
-                        }
+    /** Lines of one file, with their line numbers, parsed and normalized together on a worker. */
+    private record Batch(int file, long[] lineNos, String[] lines, int size) {}
 
-                        @Override
-                        public int read(byte[] b, int off, int len) throws IOException {
-                            int n = super.read(b, off, len);
-                            if (n > 0) {
-                                counted[0] += n;
+    /**
+     * Reads every line. With one thread each line is handled as it is read; otherwise this thread reads lines into
+     * batches, workers parse and normalize them ({@link #process}, which touches no shared state), and this thread
+     * applies their results ({@link #apply}) strictly in line order, so rejected.ndjson, the spill buckets and every
+     * count come out as with one thread. At most {@code 4 x threads} batches are in flight, which bounds the memory.
+     */
+    private void readAll(Spill spill) throws IOException {
+        int threads = tuning.threads();
+        ExecutorService pool = threads > 1 ? Executors.newFixedThreadPool(threads, Replay::daemon) : null;
+        ArrayDeque<Future<LineResult[]>> inFlight = new ArrayDeque<>();
+        int maxInFlight = 4 * threads;
+        long bytesBefore = 0;
+        try {
+            for (int f = 0; f < inputs.size(); f++) {
+                Input in = inputs.get(f);
+                long[] counted = {0};
+                try (InputStream raw = Files.newInputStream(in.path());
+                        InputStream counting = new FilterInputStream(raw) {
+                            @Override
+                            public int read() throws IOException {
+                                int b = super.read();
+                                if (b >= 0) {
+                                    counted[0]++;
+                                }
+                                return b;
                             }
-                            return n;
+
+                            @Override
+                            public int read(byte[] b, int off, int len) throws IOException {
+                                int n = super.read(b, off, len);
+                                if (n > 0) {
+                                    counted[0] += n;
+                                }
+                                return n;
+                            }
+                        };
+                        InputStream decoded =
+                                in.name().endsWith(".gz") ? new GZIPInputStream(counting, 1 << 16) : counting;
+                        BufferedReader reader =
+                                new BufferedReader(new InputStreamReader(decoded, StandardCharsets.UTF_8), 1 << 16)) {
+                    String line;
+                    long lineNo = 0;
+                    long[] nos = new long[LINES_PER_BATCH];
+                    String[] batch = new String[LINES_PER_BATCH];
+                    int size = 0;
+                    long chars = 0;
+                    while ((line = reader.readLine()) != null) {
+                        lineNo++;
+                        if (line.isBlank()) {
+                            blankLines++;
+                            continue;
                         }
-                    };
-                    InputStream decoded =
-                            in.name().endsWith(".gz") ? new GZIPInputStream(counting, 1 << 16) : counting;
-                    BufferedReader reader =
-                            new BufferedReader(new InputStreamReader(decoded, StandardCharsets.UTF_8), 1 << 16)) {
-                String line;
-                long lineNo = 0;
-                while ((line = reader.readLine()) != null) {
-                    lineNo++;
-                    if (line.isBlank()) {
-                        blankLines++;
-                        continue;
+                        lines++;
+                        if (pool == null) {
+                            apply(spill, process(f, lineNo, line));
+                        } else {
+                            nos[size] = lineNo;
+                            batch[size++] = line;
+                            chars += line.length();
+                            if (size == LINES_PER_BATCH || chars >= CHARS_PER_BATCH) {
+                                submit(pool, inFlight, maxInFlight, spill, new Batch(f, nos, batch, size));
+                                nos = new long[LINES_PER_BATCH];
+                                batch = new String[LINES_PER_BATCH];
+                                size = 0;
+                                chars = 0;
+                            }
+                        }
+                        if ((lines & 1023) == 0) {
+                            progress.reading(lines, bytesBefore + counted[0], bytesTotal, observations, false);
+                        }
                     }
-                    lines++;
-                    readLine(spill, f, lineNo, line);
-                    if ((lines & 1023) == 0) {
-                        progress.reading(lines, bytesBefore + counted[0], bytesTotal, observations, false);
+                    if (size > 0) {
+                        submit(pool, inFlight, maxInFlight, spill, new Batch(f, nos, batch, size));
                     }
                 }
+                bytesBefore += Files.size(in.path());
             }
-            bytesBefore += Files.size(in.path());
+            while (!inFlight.isEmpty()) {
+                applyAll(spill, inFlight.poll());
+            }
+        } finally {
+            if (pool != null) {
+                pool.shutdownNow();
+            }
         }
         progress.reading(lines, bytesTotal, bytesTotal, observations, true);
     }
 
-    private void readLine(Spill spill, int file, long lineNo, String line) throws IOException {
+    private void submit(ExecutorService pool, ArrayDeque<Future<LineResult[]>> inFlight, int max, Spill spill, Batch b)
+            throws IOException {
+        while (inFlight.size() >= max) {
+            applyAll(spill, inFlight.poll());
+        }
+        inFlight.add(pool.submit(() -> {
+            LineResult[] results = new LineResult[b.size()];
+            for (int i = 0; i < b.size(); i++) {
+                results[i] = process(b.file(), b.lineNos()[i], b.lines()[i]);
+            }
+            return results;
+        }));
+    }
+
+    private void applyAll(Spill spill, Future<LineResult[]> batch) throws IOException {
+        for (LineResult r : await(batch)) {
+            apply(spill, r);
+        }
+    }
+
+    /** The value of a worker's task; what the task threw is thrown here, as it would have been on one thread. */
+    private static <T> T await(Future<T> task) throws IOException {
+        try {
+            return task.get();
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException("replay was interrupted", e);
+        } catch (ExecutionException e) {
+            Throwable cause = e.getCause();
+            if (cause instanceof IOException io) {
+                throw io;
+            }
+            if (cause instanceof RuntimeException re) {
+                throw re;
+            }
+            if (cause instanceof Error err) {
+                throw err;
+            }
+            throw new IllegalStateException(cause);
+        }
+    }
+
+    private static Thread daemon(Runnable r) {
+        Thread t = new Thread(r, "replay-worker");
+        t.setDaemon(true);
+        return t;
+    }
+
+    /**
+     * What one line gives, worked out by {@link #process} on any thread and applied to the replay's counts, files
+     * and spill by {@link #apply} on the reading thread, in line order.
+     */
+    private static final class LineResult {
+        /** The resource type, or null when the line did not parse. */
+        String type;
+
+        boolean observation;
+        /** Refusals to count and write, in order; the first may refuse the whole line. */
+        List<Rejection> rejections = List.of();
+        /** A patient the export mentions. */
+        String patientId;
+        /** The earliest and latest clinical time the line holds. */
+        Instant earliest;
+
+        Instant latest;
+        /** What goes to the patient's spill bucket. */
+        Entry entry;
+        /** A Specimen without a subject, looked up by reference from any patient in pass 2. */
+        String specimenReference;
+
+        SpecimenFacts specimen;
+
+        void observe(Instant t) {
+            if (t == null) {
+                return;
+            }
+            if (latest == null || t.isAfter(latest)) {
+                latest = t;
+            }
+            if (earliest == null || t.isBefore(earliest)) {
+                earliest = t;
+            }
+        }
+
+        LineResult refuse(Rejection r) {
+            if (rejections.isEmpty()) {
+                rejections = new ArrayList<>(1);
+            }
+            rejections.add(r);
+            return this;
+        }
+    }
+
+    /** Parses and normalizes one line; touches nothing but its result (safe on any thread). */
+    private LineResult process(int file, long lineNo, String line) {
+        LineResult out = new LineResult();
         IBaseResource resource;
         try {
-            resource = parser.parseResource(line);
+            resource = parsers.get().parseResource(line);
         } catch (Exception e) {
-            refuse(new Rejection(file, lineNo, null, unparseable(line), null, firstLine(e.getMessage()), true));
-            return;
+            return out.refuse(
+                    new Rejection(file, lineNo, null, unparseable(line), null, firstLine(e.getMessage()), true));
         }
         String type = resource.fhirType();
-        byType.merge(type, 1L, Long::sum);
+        out.type = type;
         if (resource instanceof Observation o) {
-            observations++;
+            out.observation = true;
             String subject = subjectPatient(o.getSubject());
             if (subject != null && referencesSeparateSpecimen(o)) {
-                patientIds.add(subject);
-                observe(effectiveTime(o));
-                spill.write(new DeferredEntry(subject, file, lineNo, line));
-                return;
+                out.patientId = subject;
+                out.observe(effectiveTime(o));
+                out.entry = new DeferredEntry(subject, file, lineNo, line);
+                return out;
             }
             NormalizedResource r;
             try {
@@ -318,10 +504,10 @@ final class Replay {
             } catch (SpecimenLookup.SpecimenUnavailable e) {
                 throw new IllegalStateException("SpecimenLookup.NONE is never unavailable", e);
             }
-            accept(spill, file, lineNo, r);
+            accept(out, file, lineNo, r);
         } else if (resource instanceof Patient p) {
             if (!p.getIdElement().hasIdPart()) {
-                refuse(new Rejection(
+                return out.refuse(new Rejection(
                         file,
                         lineNo,
                         null,
@@ -329,14 +515,13 @@ final class Replay {
                         null,
                         "a Patient without an id cannot be matched to Observations",
                         true));
-                return;
             }
             PatientFacts facts = PatientFactsMapper.from(p);
-            patientIds.add(facts.patientId());
-            spill.write(new PatientEntry(facts));
+            out.patientId = facts.patientId();
+            out.entry = new PatientEntry(facts);
         } else if (resource instanceof Specimen s) {
             if (!s.getIdElement().hasIdPart()) {
-                refuse(new Rejection(
+                return out.refuse(new Rejection(
                         file,
                         lineNo,
                         null,
@@ -344,19 +529,19 @@ final class Replay {
                         null,
                         "a Specimen without an id cannot be referenced by Observations",
                         true));
-                return;
             }
             SpecimenFacts facts = ObservationMapper.facts(s);
             String ref = "Specimen/" + s.getIdElement().getIdPart();
             String subject = subjectPatient(s.getSubject());
-            observe(facts.collectedAt());
+            out.observe(facts.collectedAt());
             if (subject == null) {
-                specimensWithoutSubject.put(ref, facts);
+                out.specimenReference = ref;
+                out.specimen = facts;
             } else {
-                spill.write(new SpecimenEntry(subject, ref, facts.kind(), facts.collectedAt()));
+                out.entry = new SpecimenEntry(subject, ref, facts.kind(), facts.collectedAt());
             }
         } else if (!type.equals("Procedure") && !type.equals("Encounter")) {
-            refuse(new Rejection(
+            out.refuse(new Rejection(
                     file,
                     lineNo,
                     type + "/" + resource.getIdElement().getIdPart(),
@@ -366,31 +551,55 @@ final class Replay {
                     true));
         }
         // Procedure and Encounter are accepted (counted in the summary); no rule of this catalog reads them yet.
+        return out;
     }
 
-    /** Records a normalized Observation: its refusals (with the line) and, when it has facts, spills them. */
-    private void accept(Spill spill, int file, long lineNo, NormalizedResource r) throws IOException {
+    /** A normalized Observation: its refusals (with the line) and, when it has facts, what to spill. */
+    private static void accept(LineResult out, int file, long lineNo, NormalizedResource r) {
         boolean whole = r.wholeResourceRefused();
         for (NormalizedResource.Refusal refusal : r.refusals()) {
-            Rejection rej = new Rejection(
+            out.refuse(new Rejection(
                     file,
                     lineNo,
                     r.source() == null ? null : r.source().toString(),
                     refusal.reason(),
                     refusal.part(),
                     refusal.detail(),
-                    whole);
-            refuse(rej);
+                    whole));
             whole = false; // count a line once
         }
         if (r.patientId() == null || (r.facts().isEmpty() && !r.retracted())) {
             return;
         }
-        patientIds.add(r.patientId());
+        out.patientId = r.patientId();
         for (ClinicalFact f : r.facts()) {
-            observe(f.time());
+            out.observe(f.time());
         }
-        spill.write(new ResourceEntry(r.patientId(), r.source(), r.retracted(), r.facts()));
+        out.entry = new ResourceEntry(r.patientId(), r.source(), r.retracted(), r.facts());
+    }
+
+    /** Applies one line's result: counts, refusals written, the spill record. Reading thread only, line order. */
+    private void apply(Spill spill, LineResult r) throws IOException {
+        if (r.type != null) {
+            byType.merge(r.type, 1L, Long::sum);
+        }
+        if (r.observation) {
+            observations++;
+        }
+        for (Rejection rej : r.rejections) {
+            refuse(rej);
+        }
+        if (r.patientId != null) {
+            patientIds.add(r.patientId);
+        }
+        observe(r.earliest);
+        observe(r.latest);
+        if (r.specimenReference != null) {
+            specimensWithoutSubject.put(r.specimenReference, r.specimen);
+        }
+        if (r.entry != null) {
+            spill.write(r.entry);
+        }
     }
 
     private void observe(Instant t) {
@@ -528,6 +737,8 @@ final class Replay {
     private void evaluateAll(Spill spill) throws IOException {
         long total = patientIds.size();
         long done = 0;
+        ExecutorService pool =
+                tuning.threads() > 1 ? Executors.newFixedThreadPool(tuning.threads(), Replay::daemon) : null;
         try (Writer indices = writer(out.resolve("indices.ndjson"));
                 Writer advisories = writer(out.resolve("advisories.ndjson"));
                 Writer csv = writer(out.resolve("evaluations.csv"))) {
@@ -551,24 +762,43 @@ final class Replay {
                 for (String id : ids) {
                     normalizeDeferred(byPatient.get(id));
                 }
-                // patients are independent: evaluate a chunk in parallel, then write and count it in order
-                for (int from = 0; from < ids.size(); from += CHUNK) {
-                    List<String> chunk = ids.subList(from, Math.min(ids.size(), from + CHUNK));
-                    List<PatientResult> results = chunk.parallelStream()
-                            .map(id -> compute(id, byPatient.get(id)))
-                            .toList();
-                    for (PatientResult r : results) {
-                        consume(r, indices, advisories, csv);
-                        done++;
-                        progress.evaluating(done, total, false);
+                // patients are independent: the workers evaluate a few patients ahead while this thread
+                // writes and counts the results in patient order
+                ArrayDeque<Future<PatientResult>> inFlight = new ArrayDeque<>();
+                for (String id : ids) {
+                    PatientData data = byPatient.remove(id);
+                    if (pool == null) {
+                        consume(compute(id, data), indices, advisories, csv);
+                        progress.evaluating(++done, total, false);
+                        continue;
                     }
+                    if (inFlight.size() >= patientsInFlight()) {
+                        consume(await(inFlight.poll()), indices, advisories, csv);
+                        progress.evaluating(++done, total, false);
+                    }
+                    inFlight.add(pool.submit(() -> compute(id, data)));
                 }
+                while (!inFlight.isEmpty()) {
+                    consume(await(inFlight.poll()), indices, advisories, csv);
+                    progress.evaluating(++done, total, false);
+                }
+            }
+        } finally {
+            if (pool != null) {
+                pool.shutdownNow();
             }
         }
         progress.evaluating(done, total, true);
     }
 
-    static final int CHUNK = 64;
+    /**
+     * Patients evaluated ahead of the one being written: enough to keep every worker busy while this thread writes,
+     * few enough that the results held stay small (in the benchmark a patient's two days are ~180 kB of
+     * derived-index JSON).
+     */
+    private int patientsInFlight() {
+        return Math.max(8, 4 * tuning.threads());
+    }
 
     private final ThreadLocal<IParser> encoders;
 
@@ -638,9 +868,14 @@ final class Replay {
         Instant end = exportEnd != null && exportEnd.isAfter(last) ? exportEnd : last;
         PatientRun run = offline.run(facts, resources, end);
         IParser encoder = encoders.get();
-        List<String> indices = new ArrayList<>();
-        for (Observation o : offline.indices(run, end)) {
-            indices.add(encoder.encodeResourceToString(o));
+        List<String> indices;
+        if (tuning.hapiIndices()) {
+            indices = new ArrayList<>();
+            for (Observation o : offline.indices(run, end)) {
+                indices.add(encoder.encodeResourceToString(o));
+            }
+        } else {
+            indices = offline.indicesJson(run, end, indexJson);
         }
         List<String> flags = new ArrayList<>();
         for (Flag f : offline.flags(run, "replay")) {
@@ -674,12 +909,20 @@ final class Replay {
             flagsWritten++;
         }
         PatientRun run = r.run();
-        Map<String, Boolean> seenIndex = new HashMap<>();
+        Map<IndexAt, Boolean> seenIndex = new HashMap<>();
+        StringBuilder row = rowBuffer;
+        Instant rowTime = null;
+        String rowTimeText = null;
         for (RuleEvaluation e : run.evaluations()) {
-            csv.write(csvRow(e));
+            if (!e.at().equals(rowTime)) {
+                rowTime = e.at();
+                rowTimeText = rowTime.toString();
+            }
+            row.setLength(0);
+            csv.append(csvRow(row, e, rowTimeText));
             evaluationRows++;
             for (UsedIndex u : e.explanation().indices()) {
-                if (seenIndex.put(u.code().code() + "@" + e.at(), Boolean.TRUE) == null) {
+                if (seenIndex.put(new IndexAt(u.code(), e.at()), Boolean.TRUE) == null) {
                     distributions
                             .computeIfAbsent(u.code().code(), k -> new IndexDistribution(k, u.unit()))
                             .add(r.id(), e.at().getEpochSecond(), u.value());
@@ -783,7 +1026,14 @@ final class Replay {
         charts.add(new PatientChart(id, series, run.episodes(), from, to));
     }
 
-    private static String csvRow(RuleEvaluation e) {
+    /** One index and anchor time (the distributions count each once per patient). */
+    private record IndexAt(IndexCode code, Instant at) {}
+
+    /** The row buffer of {@link #consume} (reading thread only). */
+    private final StringBuilder rowBuffer = new StringBuilder(256);
+
+    /** One evaluations.csv row, appended to {@code row}; {@code time} is {@code e.at().toString()}. */
+    private static StringBuilder csvRow(StringBuilder row, RuleEvaluation e, String time) {
         StringBuilder idx = new StringBuilder();
         for (UsedIndex u : e.explanation().indices()) {
             if (!idx.isEmpty()) {
@@ -791,24 +1041,23 @@ final class Replay {
             }
             idx.append(u.code().code()).append('=').append(round(u.value()));
         }
-        return String.join(
-                        ",",
-                        csv(e.patientId()),
-                        csv(e.ruleId()),
-                        csv(e.ruleVersion()),
-                        e.at().toString(),
-                        e.outcome().name(),
-                        csv(e.tier()),
-                        e.reason() == null ? "" : e.reason().code(),
-                        e.episode() == null ? "" : e.episode().key(),
-                        csv(idx.toString()),
-                        csv(e.detail()))
-                + "\n";
+        row.append(csv(e.patientId())).append(',');
+        row.append(csv(e.ruleId())).append(',');
+        row.append(csv(e.ruleVersion())).append(',');
+        row.append(time).append(',');
+        row.append(e.outcome().name()).append(',');
+        row.append(csv(e.tier())).append(',');
+        row.append(e.reason() == null ? "" : e.reason().code()).append(',');
+        row.append(e.episode() == null ? "" : e.episode().key()).append(',');
+        row.append(csv(idx.toString())).append(',');
+        return row.append(csv(e.detail())).append('\n');
     }
+
+    private static final java.math.MathContext SIX_DIGITS = new java.math.MathContext(6);
 
     static String round(double v) {
         return new java.math.BigDecimal(v)
-                .round(new java.math.MathContext(6))
+                .round(SIX_DIGITS)
                 .stripTrailingZeros()
                 .toPlainString();
     }

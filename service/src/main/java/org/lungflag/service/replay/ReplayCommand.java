@@ -64,6 +64,17 @@ public final class ReplayCommand {
     /** As {@link #run(List, PrintStream, boolean)}, with the progress interval and bucket size tests choose. */
     static int run(
             List<String> args, PrintStream err, boolean terminal, Duration plainProgressEvery, long bytesPerBucket) {
+        return run(args, err, terminal, plainProgressEvery, bytesPerBucket, Replay.Tuning.defaults());
+    }
+
+    /** As above, with the threads and index encoding tests and the benchmark choose (no output depends on them). */
+    static int run(
+            List<String> args,
+            PrintStream err,
+            boolean terminal,
+            Duration plainProgressEvery,
+            long bytesPerBucket,
+            Replay.Tuning tuning) {
         Replay replay;
         Path outDir;
         try {
@@ -115,7 +126,8 @@ public final class ReplayCommand {
                     options.sweepKey(),
                     options.sweepValues(),
                     new Progress(err, terminal, plainProgressEvery),
-                    bytesPerBucket);
+                    bytesPerBucket,
+                    tuning);
         } catch (BadArgument e) {
             err.println("replay: " + e.getMessage());
             return BAD_ARGUMENTS;

@@ -31,8 +31,10 @@ import org.lungflag.service.offline.Pipelines;
  * JVM, one after the other:
  *
  * <ol>
- *   <li>parse-only: every line read and parsed with HAPI's JSON parser (the floor: replay cannot be faster);
- *   <li>replay: the whole command on the same file (parse, normalize, spill, evaluate, write all outputs);
+ *   <li>parse-only: every line read and parsed with HAPI's JSON parser, on one thread (the floor of one thread);
+ *   <li>replay: the whole command on the same file (parse, normalize, spill, evaluate, write all outputs) with its
+ *       default threads: one worker per available processor plus the reading/writing thread, so on a machine with
+ *       several processors it may use more CPU than parse-only; the line says how many and the CPU time it took;
  * </ol>
  *
  * for the file and for one ten times larger, and the heap high-water of each replay (the largest heap in use just
@@ -64,25 +66,46 @@ public final class ReplayBenchmark {
         // warm-up of both paths on the small file
         parseOnly(small);
         replay(small, dir.resolve("warm"));
+        int threads = Replay.Tuning.defaults().threads();
         for (Path file : List.of(small, large)) {
             long obs = file == small ? smallObs : largeObs;
+            long cpu0 = cpuNanos();
             double parse = parseOnly(file);
+            double parseCpu = (cpuNanos() - cpu0) / 1e9;
             HeapSampler heap = new HeapSampler();
             heap.start();
+            cpu0 = cpuNanos();
             double seconds = replay(file, dir.resolve("out-" + file.getFileName()));
+            double replayCpu = (cpuNanos() - cpu0) / 1e9;
             heap.stopSampling();
             System.out.printf(
                     Locale.ROOT,
-                    "%s: parse-only %,.0f Observations/s; replay %,.0f Observations/s = %.0f %% of parse-only;"
+                    "%s: parse-only (1 thread) %,.0f Observations/s; replay (%d worker threads + 1) %,.0f"
+                            + " Observations/s = %.0f %% of parse-only; CPU time parse-only %.1f s, replay %.1f s;"
                             + " heap high-water after GC %,d MiB (in use at most %,d MiB)%n",
                     file.getFileName(),
                     obs / parse,
+                    threads,
                     obs / seconds,
                     100.0 * parse / seconds,
+                    parseCpu,
+                    replayCpu,
                     heap.maxAfterGc.get() >> 20,
                     heap.maxUsed.get() >> 20);
         }
-        System.out.println("target: replay >= 50 % of parse-only; heap bounded as the file grows 10x");
+        System.out.printf(
+                Locale.ROOT,
+                "target: replay >= 50 %% of parse-only; heap bounded as the file grows 10x (%d processors, load"
+                        + " average %.2f; CPU time is the whole JVM's, collector and JIT included)%n",
+                Runtime.getRuntime().availableProcessors(),
+                ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage());
+    }
+
+    /** CPU time of the whole JVM (all threads), or 0 where the platform does not say. */
+    private static long cpuNanos() {
+        return ManagementFactory.getOperatingSystemMXBean() instanceof com.sun.management.OperatingSystemMXBean os
+                ? Math.max(0, os.getProcessCpuTime())
+                : 0;
     }
 
     private static double parseOnly(Path file) throws IOException {

@@ -274,6 +274,92 @@ class ReplayCommandTest {
         assertThat(flags(base.out())).hasSizeGreaterThan(5);
     }
 
+    /**
+     * Parsing on several threads and writing derived indices with {@code DerivedIndexJson} is only a speed-up: every
+     * output file, rejected.ndjson with its file:line places included, is byte for byte what one thread writes with
+     * HAPI building and encoding each derived-index Observation (the path before the speed-up). The export spans
+     * many reading batches and holds what pass 1 handles differently: refused lines among good ones, a blank line,
+     * a Specimen with and one without a subject, Observations that wait for them, a corrected version and an
+     * entered-in-error withdrawal.
+     */
+    @Test
+    void severalThreadsAndDirectIndexJsonGiveTheSameBytesAsOneThroughHapi() throws IOException {
+        List<String> lines =
+                new ArrayList<>(ReplayFixtures.ndjson(ReplayFixtures.resources(ReplayFixtures.ward(9, 120, "t"), END)));
+        assertThat(lines.size()).isGreaterThan(4 * Replay.LINES_PER_BATCH);
+        List<String> odd = List.of(
+                "{\"resourceType\": \"Observation\", \"id\": ",
+                "",
+                "{\"resourceType\":\"Medication\",\"id\":\"m1\"}",
+                "{\"resourceType\":\"NotAResource\",\"id\":\"x\"}",
+                "{\"resourceType\":\"Patient\",\"gender\":\"male\"}",
+                "{\"resourceType\":\"Observation\",\"id\":\"no-time\",\"status\":\"final\",\"code\":{\"coding\":[{\"system\":\"http://loinc.org\",\"code\":\"2703-7\"}]},\"subject\":{\"reference\":\"Patient/t3\"},\"valueQuantity\":{\"value\":80,\"system\":\"http://unitsofmeasure.org\",\"code\":\"mm[Hg]\"}}",
+                "{\"resourceType\":\"Specimen\",\"id\":\"sp1\",\"subject\":{\"reference\":\"Patient/t5\"},\"type\":{\"coding\":[{\"system\":\"http://snomed.info/sct\",\"code\":\"122552005\"}]},\"collection\":{\"collectedDateTime\":\"2026-02-10T09:20:00Z\"}}",
+                "{\"resourceType\":\"Specimen\",\"id\":\"sp2\",\"type\":{\"coding\":[{\"system\":\"http://snomed.info/sct\",\"code\":\"122555007\"}]},\"collection\":{\"collectedDateTime\":\"2026-02-10T10:20:00Z\"}}",
+                "{\"resourceType\":\"Observation\",\"id\":\"gas-sp1\",\"meta\":{\"versionId\":\"1\"},\"status\":\"final\",\"code\":{\"coding\":[{\"system\":\"http://loinc.org\",\"code\":\"2703-7\"}]},\"subject\":{\"reference\":\"Patient/t5\"},\"specimen\":{\"reference\":\"Specimen/sp1\"},\"effectiveDateTime\":\"2026-02-10T09:20:00Z\",\"valueQuantity\":{\"value\":41,\"system\":\"http://unitsofmeasure.org\",\"code\":\"mm[Hg]\"}}",
+                "{\"resourceType\":\"Observation\",\"id\":\"gas-sp2\",\"meta\":{\"versionId\":\"1\"},\"status\":\"final\",\"code\":{\"coding\":[{\"system\":\"http://loinc.org\",\"code\":\"2703-7\"}]},\"subject\":{\"reference\":\"Patient/t6\"},\"specimen\":{\"reference\":\"Specimen/sp2\"},\"effectiveDateTime\":\"2026-02-10T10:20:00Z\",\"valueQuantity\":{\"value\":44,\"system\":\"http://unitsofmeasure.org\",\"code\":\"mm[Hg]\"}}",
+                "{\"resourceType\":\"Observation\",\"id\":\"gas-nosp\",\"meta\":{\"versionId\":\"1\"},\"status\":\"final\",\"code\":{\"coding\":[{\"system\":\"http://loinc.org\",\"code\":\"2703-7\"}]},\"subject\":{\"reference\":\"Patient/t7\"},\"specimen\":{\"reference\":\"Specimen/missing\"},\"effectiveDateTime\":\"2026-02-10T10:20:00Z\",\"valueQuantity\":{\"value\":44,\"system\":\"http://unitsofmeasure.org\",\"code\":\"mm[Hg]\"}}",
+                "{\"resourceType\":\"Procedure\",\"id\":\"pr1\",\"status\":\"completed\",\"subject\":{\"reference\":\"Patient/t1\"}}");
+        // a corrected second version of one PaO2 and a withdrawn one, from the fixture's own lines
+        String pao2 = lines.stream()
+                .filter(l -> l.contains("\"obs-t8-4\""))
+                .findFirst()
+                .orElseThrow();
+        odd = new ArrayList<>(odd);
+        odd.add(pao2.replace("\"versionId\":\"1\"", "\"versionId\":\"2\"")
+                .replaceFirst("\"value\":[0-9.]+", "\"value\":39"));
+        String withdrawn = lines.stream()
+                .filter(l -> l.contains("\"obs-t9-7\""))
+                .findFirst()
+                .orElseThrow();
+        odd.add(withdrawn
+                .replace("\"versionId\":\"1\"", "\"versionId\":\"2\"")
+                .replace("\"status\":\"final\"", "\"status\":\"entered-in-error\""));
+        for (int i = 0; i < odd.size(); i++) {
+            lines.add(Math.min(lines.size(), 150 + i * 331), odd.get(i));
+        }
+        Path in = Files.createDirectories(tmp.resolve("in"));
+        ReplayFixtures.write(in.resolve("a.ndjson"), lines.subList(0, 2000));
+        ReplayFixtures.write(in.resolve("b.ndjson"), lines.subList(2000, lines.size()));
+
+        List<String> files = List.of(
+                "indices.ndjson",
+                "advisories.ndjson",
+                "evaluations.csv",
+                "rejected.ndjson",
+                "summary.json",
+                "report.html");
+        Path reference = tmp.resolve("out-reference");
+        int exit = ReplayCommand.run(
+                List.of("--input", in.toString(), "--out", reference.toString()),
+                new PrintStream(new ByteArrayOutputStream(), true, StandardCharsets.UTF_8),
+                false,
+                Duration.ofMillis(1),
+                64 << 10,
+                Replay.Tuning.reference());
+        assertThat(exit).isEqualTo(3);
+        // the unparseable line, Medication, NotAResource, the Patient without an id, the PaO2 without a time
+        assertThat(read(reference.resolve("rejected.ndjson")).lines()).hasSize(5);
+        assertThat(read(reference.resolve("indices.ndjson")).lines()).hasSizeGreaterThan(100);
+        for (Replay.Tuning tuning :
+                List.of(new Replay.Tuning(1, false), new Replay.Tuning(2, false), new Replay.Tuning(5, false))) {
+            Path out = tmp.resolve("out-" + tuning.threads() + "-" + tuning.hapiIndices());
+            assertThat(ReplayCommand.run(
+                            List.of("--input", in.toString(), "--out", out.toString()),
+                            new PrintStream(new ByteArrayOutputStream(), true, StandardCharsets.UTF_8),
+                            false,
+                            Duration.ofMillis(1),
+                            64 << 10,
+                            tuning))
+                    .isEqualTo(exit);
+            for (String f : files) {
+                assertThat(Files.readAllBytes(out.resolve(f)))
+                        .as(f + " with " + tuning)
+                        .isEqualTo(Files.readAllBytes(reference.resolve(f)));
+            }
+        }
+    }
+
     /** The report says how many input files were read; everything else must be equal. */
     static String withoutFileCount(String text) {
         return text.replaceAll("<tr><td>Input files</td><td>\\d+</td></tr>", "");
