@@ -222,6 +222,13 @@ public class InboxProcessor implements SmartLifecycle {
             }
         }
         // demographics and first-sight history are read before the transaction (they may need the FHIR server)
+        try {
+            patients.prefetch(byPatient.keySet());
+        } catch (RuntimeException e) {
+            log.debug(
+                    "demographics prefetch failed ({}); reading patients one by one",
+                    e.getClass().getSimpleName());
+        }
         List<PatientProcessor.PatientWork> ready = new ArrayList<>();
         List<String> hydratedNow = new ArrayList<>();
         for (Map.Entry<String, List<Work>> e : byPatient.entrySet()) {

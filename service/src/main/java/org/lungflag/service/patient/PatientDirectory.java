@@ -8,12 +8,19 @@ import java.sql.Timestamp;
 import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Collection;
+import java.util.HashMap;
 import java.util.LinkedHashMap;
+import java.util.List;
 import java.util.Map;
 import java.util.Optional;
+import org.hl7.fhir.r4.model.Bundle;
 import org.hl7.fhir.r4.model.Patient;
 import org.lungflag.rules.patient.PatientFacts;
 import org.lungflag.rules.patient.Sex;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 import org.springframework.beans.factory.annotation.Value;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.stereotype.Component;
@@ -26,6 +33,8 @@ import org.springframework.stereotype.Component;
  */
 @Component
 public class PatientDirectory {
+
+    private static final Logger log = LoggerFactory.getLogger(PatientDirectory.class);
 
     private final IGenericClient client;
     private final JdbcClient jdbc;
@@ -96,24 +105,96 @@ public class PatientDirectory {
         }
     }
 
+    /** Patients asked for at once by {@link #prefetch}: one search per this many (a server may cap its pages). */
+    static final int SEARCH_CHUNK = 50;
+
+    /**
+     * Makes the demographics of several patients ready with few round trips, before {@link #facts} is asked for each
+     * of them: one query of the audit store, then one FHIR search by {@code _id} per {@value #SEARCH_CHUNK} patients
+     * whose cached value is missing or due for refresh. Only a shortcut: a patient the search did not return, or every
+     * patient when the server cannot be reached, is left to {@link #facts}, which reads them one by one with its usual
+     * fallbacks.
+     */
+    public void prefetch(Collection<String> patientIds) {
+        Instant now = clock.instant();
+        List<String> unknown = new ArrayList<>();
+        synchronized (memory) {
+            for (String id : patientIds) {
+                Cached c = memory.get(id);
+                if (c == null || !c.at().plus(refreshAfter).isAfter(now)) {
+                    unknown.add(id);
+                }
+            }
+        }
+        if (unknown.isEmpty()) {
+            return;
+        }
+        List<String> toRead = new ArrayList<>();
+        Map<String, Cached> stored = new HashMap<>();
+        for (int from = 0; from < unknown.size(); from += 500) {
+            jdbc.sql(
+                            "SELECT patient_id, sex, birth_date, demographics_at FROM patient_state WHERE patient_id IN (:ids)")
+                    .param("ids", unknown.subList(from, Math.min(unknown.size(), from + 500)))
+                    .query((rs, n) -> {
+                        Cached c = row(rs.getString("patient_id"), rs);
+                        return c == null ? null : stored.put(c.facts().patientId(), c);
+                    })
+                    .list();
+        }
+        for (String id : unknown) {
+            Cached c = stored.get(id);
+            if (c != null) {
+                remember(id, c);
+            }
+            if (c == null || !c.at().plus(refreshAfter).isAfter(now)) {
+                toRead.add(id);
+            }
+        }
+        for (int from = 0; from < toRead.size(); from += SEARCH_CHUNK) {
+            List<String> chunk = toRead.subList(from, Math.min(toRead.size(), from + SEARCH_CHUNK));
+            try {
+                Bundle found = client.search()
+                        .forResource(Patient.class)
+                        .where(Patient.RES_ID.exactly().codes(chunk))
+                        .count(chunk.size())
+                        .returnBundle(Bundle.class)
+                        .execute();
+                for (Bundle.BundleEntryComponent e : found.getEntry()) {
+                    if (e.getResource() instanceof Patient patient
+                            && chunk.contains(patient.getIdElement().getIdPart())) {
+                        store(PatientFactsMapper.from(patient), now);
+                    }
+                }
+            } catch (RuntimeException e) {
+                // the one-by-one reads in facts() decide what to do without the server
+                log.debug(
+                        "prefetch of {} patients failed ({})",
+                        chunk.size(),
+                        e.getClass().getSimpleName());
+            }
+        }
+    }
+
     private Optional<Cached> cached(String patientId) {
         return jdbc.sql("SELECT sex, birth_date, demographics_at FROM patient_state WHERE patient_id = :id")
                 .param("id", patientId)
-                .query((rs, n) -> {
-                    Timestamp at = rs.getTimestamp("demographics_at");
-                    if (at == null) {
-                        return null;
-                    }
-                    Date birth = rs.getDate("birth_date");
-                    String sex = rs.getString("sex");
-                    return new Cached(
-                            new PatientFacts(
-                                    patientId,
-                                    sex == null ? Sex.UNKNOWN : Sex.valueOf(sex),
-                                    birth == null ? null : birth.toLocalDate()),
-                            at.toInstant());
-                })
+                .query((rs, n) -> row(patientId, rs))
                 .optional();
+    }
+
+    private static Cached row(String patientId, java.sql.ResultSet rs) throws java.sql.SQLException {
+        Timestamp at = rs.getTimestamp("demographics_at");
+        if (at == null) {
+            return null;
+        }
+        Date birth = rs.getDate("birth_date");
+        String sex = rs.getString("sex");
+        return new Cached(
+                new PatientFacts(
+                        patientId,
+                        sex == null ? Sex.UNKNOWN : Sex.valueOf(sex),
+                        birth == null ? null : birth.toLocalDate()),
+                at.toInstant());
     }
 
     private void remember(String patientId, Cached cached) {
