@@ -41,10 +41,6 @@ class EvaluationRepository {
                     :episode, :mode, :explanation)
             """;
 
-    long add(RuleEvaluation e, EvaluationMode mode) {
-        return addAll(List.of(e), List.of(mode))[0];
-    }
-
     /**
      * Inserts evaluations in one JDBC batch, in order, and returns their ids in the same order.
      *

@@ -53,20 +53,6 @@ class TimelineStore {
         this.clock = clock;
     }
 
-    /** Stores one resource version's facts; older versions of the same resource are marked retracted. */
-    void store(String patientId, SourceRef source, List<? extends ClinicalFact> facts) {
-        Writes writes = writes();
-        writes.store(patientId, source, facts);
-        writes.flush();
-    }
-
-    /** Marks every fact of a resource withdrawn (replaced by a newer version, or entered in error). */
-    void retract(String resourceType, String resourceId) {
-        Writes writes = writes();
-        writes.retract(resourceType, resourceId);
-        writes.flush();
-    }
-
     /** Writes kept for the end of a transaction, so a batch of the inbox costs two statements here, not two each. */
     Writes writes() {
         return new Writes();
