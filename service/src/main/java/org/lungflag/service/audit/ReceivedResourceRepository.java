@@ -43,28 +43,6 @@ public class ReceivedResourceRepository {
             Instant receivedAt,
             Outcome outcome) {}
 
-    public void add(
-            String resourceType,
-            String resourceId,
-            String versionId,
-            String bodySha256,
-            String patientId,
-            Instant clinicalTime,
-            String channel,
-            Instant receivedAt,
-            Outcome outcome) {
-        addAll(List.of(new Received(
-                resourceType,
-                resourceId,
-                versionId,
-                bodySha256,
-                patientId,
-                clinicalTime,
-                channel,
-                receivedAt,
-                outcome)));
-    }
-
     /** Records several in one JDBC batch, in order. */
     public void addAll(List<Received> rows) {
         if (rows.isEmpty()) {

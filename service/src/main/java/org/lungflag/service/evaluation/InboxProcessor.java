@@ -377,7 +377,7 @@ public class InboxProcessor implements SmartLifecycle {
                     null,
                     item.bodySha256(),
                     null));
-            received.add(
+            received.addAll(List.of(new ReceivedResourceRepository.Received(
                     item.resourceType(),
                     item.resourceId(),
                     source != null ? source.version() : item.versionId(),
@@ -386,7 +386,7 @@ public class InboxProcessor implements SmartLifecycle {
                     null,
                     item.channel().name(),
                     item.receivedAt(),
-                    ReceivedResourceRepository.Outcome.QUARANTINED);
+                    ReceivedResourceRepository.Outcome.QUARANTINED)));
             inbox.markDone(List.of(item.id()));
         });
     }
