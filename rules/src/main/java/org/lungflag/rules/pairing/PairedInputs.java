@@ -39,13 +39,13 @@ public final class PairedInputs {
             SupportState support,
             PositionState position,
             List<MissingInput> missing) {
-        this.anchor = anchor;
-        this.settings = settings.isEmpty() ? Map.of() : new EnumMap<>(settings);
-        this.measured = measured.isEmpty() ? Map.of() : new EnumMap<>(measured);
-        this.support = support;
-        this.position = position;
-        this.missing = List.copyOf(missing);
-        this.missingByKind = byKind(this.missing);
+        this(anchor, copy(settings), copy(measured), support, position, missing, true);
+    }
+
+    private static EnumMap<QuantityKind, Measurement> copy(Map<QuantityKind, Measurement> values) {
+        EnumMap<QuantityKind, Measurement> out = new EnumMap<>(QuantityKind.class);
+        out.putAll(values);
+        return out;
     }
 
     /** For {@link Pairing}: takes the maps as they are (the pairing made them and lets go of them). */
