@@ -30,7 +30,7 @@ import org.springframework.stereotype.Component;
 import org.springframework.transaction.support.TransactionTemplate;
 
 /**
- * Sends outbox rows to the FHIR server, one transaction per row, in order per episode. A Flag is written with a
+ * Sends outbox rows to the FHIR server, one transaction per row, in order per patient. A Flag is written with a
  * conditional update on its episode identifier (created the first time, updated in place after), then its
  * Provenance is recorded only when the Flag actually got a new version. Transient failures (connection errors,
  * 5xx, 408, 409, 429, and 401/403 while the credentials are being fixed) are retried with exponential backoff and

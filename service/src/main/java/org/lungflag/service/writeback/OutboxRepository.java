@@ -13,8 +13,11 @@ import org.springframework.transaction.annotation.Transactional;
 
 /**
  * The outbox: rows are inserted in the same transaction as the audit rows that caused them, and delivered in order
- * per episode (a Flag's onset before its escalation before its resolution). Rows are claimed with {@code FOR
- * UPDATE SKIP LOCKED} and a lease, so several instances share the work and a crashed instance's rows are retried.
+ * per patient, so per episode too (a Flag's onset before its escalation before its resolution). Rows are claimed
+ * with {@code FOR UPDATE SKIP LOCKED} and a lease, so several instances share the work and a crashed instance's rows
+ * are retried. Per patient rather than per episode: one patient's writes (the Flags of different episodes, the
+ * derived-index Observations that several evaluations cite, which have no episode) are never sent by two
+ * instances at once, so the FHIR server never sees two concurrent conditional updates for one patient's records.
  */
 @Repository
 public class OutboxRepository {
@@ -49,7 +52,7 @@ public class OutboxRepository {
     }
 
     /**
-     * Claims up to {@code limit} rows due now, skipping any row whose episode has an earlier row still waiting or in
+     * Claims up to {@code limit} rows due now, skipping any row whose patient has an earlier row still waiting or in
      * flight, and leases them for {@code lease}.
      */
     @Transactional
@@ -60,7 +63,7 @@ public class OutboxRepository {
                          WHERE ((o.status = 'PENDING' AND o.next_attempt_at <= :now)
                                 OR (o.status = 'SENDING' AND o.next_attempt_at <= :now))
                            AND NOT EXISTS (SELECT 1 FROM outbox e
-                                            WHERE e.episode_key = o.episode_key AND e.id < o.id
+                                            WHERE e.patient_id = o.patient_id AND e.id < o.id
                                               AND e.status IN ('PENDING', 'SENDING'))
                          ORDER BY o.id
                          FETCH FIRST :limit ROWS ONLY

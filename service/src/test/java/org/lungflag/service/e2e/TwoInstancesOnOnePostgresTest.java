@@ -300,13 +300,21 @@ class TwoInstancesOnOnePostgresTest {
         }
 
         // every write was delivered, each exactly once
-        List<Map<String, Object>> outbox = jdbc().sql("SELECT status, attempts FROM outbox WHERE kind = 'FLAG'")
+        List<Map<String, Object>> outbox = jdbc().sql(
+                        "SELECT id, episode_key, status, attempts, last_error FROM outbox WHERE kind = 'FLAG'")
                 .query()
                 .listOfRows();
-        assertThat(outbox).isNotEmpty().allSatisfy(r -> {
-            assertThat(r.get("status")).isEqualTo("DELIVERED");
-            assertThat(((Number) r.get("attempts")).intValue()).isEqualTo(1);
-        });
+        List<Map<String, Object>> refused = jdbc().sql(
+                        "SELECT reason_code, detail, server_outcome FROM quarantine WHERE stage = 'WRITE_BACK'")
+                .query()
+                .listOfRows();
+        assertThat(outbox)
+                .as("outbox rows; write-back refusals: %s", refused)
+                .isNotEmpty()
+                .allSatisfy(r -> {
+                    assertThat(r.get("status")).isEqualTo("DELIVERED");
+                    assertThat(((Number) r.get("attempts")).intValue()).isEqualTo(1);
+                });
     }
 
     private static long count(String sql) {

@@ -304,4 +304,28 @@ abstract class AuditStoreContract {
         assertThat(secondRound).contains(second);
         outbox.delivered(second, null);
     }
+
+    @Test
+    void theOutboxNeverHandsOutTwoRowsOfOnePatientAtOnceWhateverTheirEpisode() {
+        String patient = "p-" + UUID.randomUUID().toString().substring(0, 8);
+        String other = "q-" + UUID.randomUUID().toString().substring(0, 8);
+        long flagOfOneEpisode = outbox.add(OutboxKind.FLAG, "one-" + UUID.randomUUID(), patient, null, "{}", false);
+        long indices = outbox.add(OutboxKind.INDICES, null, patient, null, "{}", false);
+        long flagOfAnotherEpisode = outbox.add(OutboxKind.FLAG, "two-" + UUID.randomUUID(), patient, null, "{}", false);
+        long otherPatient = outbox.add(OutboxKind.INDICES, null, other, null, "{}", false);
+        List<Long> expected = List.of(flagOfOneEpisode, indices, flagOfAnotherEpisode);
+        for (long next : expected) {
+            List<Long> round = outbox.claim(500, Duration.ofMinutes(1)).stream()
+                    .map(OutboxRow::id)
+                    .filter(id -> expected.contains(id) || id == otherPatient)
+                    .toList();
+            assertThat(round)
+                    .as("one row of the patient per round, the earliest first")
+                    .containsOnlyOnce(next)
+                    .doesNotContainAnyElementsOf(
+                            expected.stream().filter(id -> id != next).toList());
+            outbox.delivered(next, null);
+        }
+        outbox.delivered(otherPatient, null);
+    }
 }
