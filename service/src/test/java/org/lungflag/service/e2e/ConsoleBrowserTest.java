@@ -114,6 +114,9 @@ class ConsoleBrowserTest {
         browser = new ChromeDriver(service, options);
         browser.manage().window().setSize(new Dimension(1400, 1000));
         wait = new WebDriverWait(browser, Duration.ofSeconds(20));
+        // a form post reloads the page: an element found just before the reload is stale (or "does not belong to
+        // the document") when read; look again until the timeout, which then reports the last such error
+        wait.ignoring(org.openqa.selenium.WebDriverException.class);
     }
 
     @AfterAll
