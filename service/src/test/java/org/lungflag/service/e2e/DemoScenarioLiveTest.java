@@ -279,6 +279,25 @@ class DemoScenarioLiveTest {
     /** Until nothing waits in the inbox or outbox for three polls in a row. */
     private void awaitQuiet() {
         int[] quiet = {0};
+        try {
+            awaitQuiet(quiet);
+        } catch (org.awaitility.core.ConditionTimeoutException e) {
+            // say what was still waiting, so a timeout in CI can be diagnosed from its log
+            throw new AssertionError(
+                    "still waiting after 10 minutes: outbox "
+                            + jdbc.sql("SELECT id, patient_id, episode_key, kind, status, attempts, next_attempt_at,"
+                                            + " last_error FROM outbox WHERE status IN ('PENDING', 'SENDING')")
+                                    .query()
+                                    .listOfRows()
+                            + "; inbox not done: "
+                            + jdbc.sql("SELECT COUNT(*) FROM intake_inbox WHERE status <> 'DONE'")
+                                    .query(Long.class)
+                                    .single(),
+                    e);
+        }
+    }
+
+    private void awaitQuiet(int[] quiet) {
         await().atMost(Duration.ofMinutes(10))
                 .pollInterval(Duration.ofSeconds(2))
                 .until(() -> {
