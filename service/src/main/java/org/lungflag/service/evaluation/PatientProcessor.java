@@ -466,8 +466,29 @@ public class PatientProcessor {
         RuleDefinition rule = rule(episode.ruleId());
         EvaluationMode mode = round.modes.mode(rule.id());
         Flag flag;
+        RuleEvaluation evidence = e;
         if (episode.status() == EpisodeStatus.ACTIVE) {
-            flag = AdvisoryResources.activeFlag(episode, e, rule, modeCode(mode), List.of());
+            // The Flag states the evaluation that met the tier. The batch's latest evaluation of the episode may be
+            // one that met none or could not be done (a re-run after late data ends with it while the episode stays
+            // open); its explanation has no basis and no inputs, which the advisory-flag profile rightly refuses.
+            RuleEvaluation met = e.outcome().isActiveTier() ? e : lastActive;
+            if (met != null) {
+                flag = AdvisoryResources.activeFlag(episode, met, rule, modeCode(mode), List.of());
+                evidence = met;
+            } else if (row != null && row.flagResource() != null && row.code().equals(episode.tier())) {
+                // nothing in this batch met the tier: the Flag last written for it still says why, made active again
+                flag = parseFlag(row.flagResource());
+                flag.setStatus(Flag.FlagStatus.ACTIVE);
+                flag.getPeriod().setEndElement(null);
+            } else {
+                log.warn(
+                        "episode {} of Patient/{} is active at {} with no evaluation on record that met it; the Flag"
+                                + " is built from the latest evaluation",
+                        episode.key(),
+                        patientId,
+                        episode.tier());
+                flag = AdvisoryResources.activeFlag(episode, e, rule, modeCode(mode), List.of());
+            }
         } else {
             Flag lastFlag = lastActive != null
                     ? AdvisoryResources.activeFlag(episode, lastActive, rule, modeCode(mode), List.of())
@@ -478,9 +499,9 @@ public class PatientProcessor {
             }
             flag = AdvisoryResources.closedFlag(lastFlag, episode, e);
         }
-        // The evidence: what this decision was computed from; for a closure, the latest readings that no longer met
-        // a tier, else the records the advisory cited.
-        List<String> inputs = AdvisoryResources.inputsOf(e);
+        // The evidence: what this decision was computed from (for an active episode, the evaluation that met its
+        // tier); for a closure, the latest readings that no longer met a tier, else the records the advisory cited.
+        List<String> inputs = AdvisoryResources.inputsOf(evidence);
         if (inputs.isEmpty()) {
             inputs = recentInputs.isEmpty() ? AdvisoryResources.detailsOf(flag) : recentInputs;
         }
