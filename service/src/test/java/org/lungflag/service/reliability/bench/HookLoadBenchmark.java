@@ -189,7 +189,7 @@ public final class HookLoadBenchmark {
             a.put(args[i].replaceFirst("^--", ""), args[i + 1]);
         }
         if (!a.containsKey("fhir")) {
-            throw new IllegalArgumentException("usage: HookLoadBenchmark --fhir BASE_URL [--db h2,postgres]"
+            throw new IllegalArgumentException("usage: HookLoadBenchmark --fhir BASE_URL [--db h2,postgres|none]"
                     + " [--rates 100,200,500,1000,2000] [--seconds 10] [--patients 2000] [--senders 48]"
                     + " [--write-back true] [--warmup-seconds 10]");
         }
@@ -224,6 +224,9 @@ public final class HookLoadBenchmark {
         }
         List<Result> results = new ArrayList<>();
         for (String db : options.databases()) {
+            if (db.equals("none")) {
+                continue; // --db none: only the floors below
+            }
             results.add(runOne(db, run + db.charAt(0), patientIds, load));
         }
         floors(load.subList(0, Math.min(load.size(), 40_000)));
