@@ -193,9 +193,9 @@ final class ExpressionCompiler {
         return new Compiled(ast, type);
     }
 
-    CelRuntime.Program program(Compiled c) {
+    RuleExpression program(Compiled c) {
         try {
-            return RUNTIME.createProgram(c.ast());
+            return RuleExpression.of(c.ast(), RUNTIME.createProgram(c.ast()));
         } catch (CelEvaluationException e) {
             throw new IllegalStateException("a checked expression could not be planned", e);
         }
@@ -356,7 +356,7 @@ final class ExpressionCompiler {
     }
 
     /** Folds the not-evaluable cases and tiers into one short-circuiting program returning an int. */
-    CelRuntime.Program decisionProgram(List<String> notEvaluable, List<String> tierConditions) {
+    RuleExpression decisionProgram(List<String> notEvaluable, List<String> tierConditions) {
         StringBuilder sb = new StringBuilder();
         int open = 0;
         for (int i = 0; i < notEvaluable.size(); i++) {
@@ -382,7 +382,7 @@ final class ExpressionCompiler {
             throw new IllegalStateException("the folded decision failed to compile: " + result.getErrorString());
         }
         try {
-            return RUNTIME.createProgram(result.getAst());
+            return RuleExpression.of(result.getAst(), RUNTIME.createProgram(result.getAst()));
         } catch (Exception e) {
             throw new IllegalStateException("the folded decision could not be planned", e);
         }

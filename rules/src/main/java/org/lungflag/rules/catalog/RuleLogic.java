@@ -1,6 +1,5 @@
 package org.lungflag.rules.catalog;
 
-import dev.cel.runtime.CelRuntime;
 import java.util.List;
 import java.util.Set;
 import org.lungflag.rules.quality.DataQualityReason;
@@ -9,23 +8,23 @@ import org.lungflag.rules.quality.DataQualityReason;
  * A rule's checked, precompiled logic, for the engine. Built once at load; evaluating it needs only a variable
  * resolver.
  *
- * <p>The {@link #decision()} program folds the rule's {@code not_evaluable} cases and tiers into one CEL program
+ * <p>The {@link #decision()} program folds the rule's {@code not_evaluable} cases and tiers into one CEL expression
  * that short-circuits in order and returns an int: {@code -k} when the k-th not-evaluable case holds (1-based),
  * {@code rank + 1} for the most severe tier that holds, or {@code 0} when none does.
  */
 public final class RuleLogic {
 
     /** A named value computed from other variables, bound lazily as a variable itself. */
-    public record Derived(String name, VariableType type, String expression, CelRuntime.Program program) {}
+    public record Derived(String name, VariableType type, String expression, RuleExpression program) {}
 
     /** A reason the rule cannot be evaluated at an anchor. */
     public record NotEvaluableCase(String condition, DataQualityReason reason, Template detail) {}
 
     /** One piece of the basis text; rendered when its condition holds and all its placeholders are available. */
-    public record BasisFragment(String condition, CelRuntime.Program when, Template text) {}
+    public record BasisFragment(String condition, RuleExpression when, Template text) {}
 
     private final List<Derived> derived;
-    private final CelRuntime.Program decision;
+    private final RuleExpression decision;
     private final List<NotEvaluableCase> notEvaluable;
     private final List<String> requires;
     private final List<BasisFragment> basis;
@@ -34,7 +33,7 @@ public final class RuleLogic {
 
     RuleLogic(
             List<Derived> derived,
-            CelRuntime.Program decision,
+            RuleExpression decision,
             List<NotEvaluableCase> notEvaluable,
             List<String> requires,
             List<BasisFragment> basis,
@@ -53,7 +52,7 @@ public final class RuleLogic {
         return derived;
     }
 
-    public CelRuntime.Program decision() {
+    public RuleExpression decision() {
         return decision;
     }
 

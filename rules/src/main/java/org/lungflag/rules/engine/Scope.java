@@ -11,6 +11,7 @@ import java.util.Optional;
 import org.lungflag.rules.catalog.Aggregate;
 import org.lungflag.rules.catalog.AggregateFunction;
 import org.lungflag.rules.catalog.Population;
+import org.lungflag.rules.catalog.RuleExpression;
 import org.lungflag.rules.catalog.RuleLogic;
 import org.lungflag.rules.catalog.RuleVariables;
 import org.lungflag.rules.index.IndexCode;
@@ -30,7 +31,7 @@ import org.lungflag.rules.timeline.PatientTimeline;
  * The values one rule sees at one anchor: binds the engine's variables lazily (only what an expression asks for is
  * computed), evaluates derived values and window aggregates on demand and caches them for the evaluation.
  */
-final class Scope implements CelVariableResolver {
+final class Scope implements CelVariableResolver, RuleExpression.DirectValues {
 
     /** What is shared by every rule evaluated at one anchor. */
     static final class Anchor {
@@ -113,6 +114,11 @@ final class Scope implements CelVariableResolver {
     public Optional<Object> find(String name) {
         Object v = value(name);
         return v == null ? Optional.empty() : Optional.of(v);
+    }
+
+    @Override
+    public Object valueOrNull(String name) {
+        return value(name);
     }
 
     /** The bound value of a variable, or {@code null} if the name is not known. */

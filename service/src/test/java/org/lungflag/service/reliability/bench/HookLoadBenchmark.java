@@ -608,7 +608,9 @@ public final class HookLoadBenchmark {
             OfflineEvaluation offline = ctx.getBean(OfflineEvaluation.class);
             double parse = 0;
             double eval = 0;
-            for (int round = 0; round < 4; round++) { // the first rounds warm the JIT; keep the best
+            for (int round = 0;
+                    round < Integer.getInteger("floor.rounds", 4);
+                    round++) { // the first rounds warm the JIT; keep the best
                 long t = System.nanoTime();
                 var parser = serviceFhir.newJsonParser();
                 int n = 0;
