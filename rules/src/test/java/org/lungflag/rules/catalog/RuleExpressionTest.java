@@ -33,7 +33,7 @@ class RuleExpressionTest {
     private record Expr(String where, RuleExpression expression) {}
 
     /** A resolver over a map, also offering the direct lookup the engine's scope offers. */
-    private record Values(Map<String, Object> map) implements CelVariableResolver, RuleExpression.DirectValues {
+    record Values(Map<String, Object> map) implements CelVariableResolver, RuleExpression.DirectValues {
         @Override
         public Optional<Object> find(String name) {
             return Optional.ofNullable(map.get(name));
@@ -141,7 +141,7 @@ class RuleExpressionTest {
         return Objects.equals(a, b) && a.getClass() == b.getClass();
     }
 
-    private static Map<String, VariableType> variablesOf(RuleDefinition rule) {
+    static Map<String, VariableType> variablesOf(RuleDefinition rule) {
         Map<String, VariableType> v = new LinkedHashMap<>();
         RuleVariables.standard().forEach((name, variable) -> v.put(name, variable.type()));
         for (ParameterDefinition p : rule.parameters()) {
@@ -164,7 +164,7 @@ class RuleExpressionTest {
     }
 
     /** The rule's own thresholds and their neighbours, so the boundaries are hit exactly. */
-    private static List<Double> numbersOf(RuleDefinition rule) {
+    static List<Double> numbersOf(RuleDefinition rule) {
         List<Double> n = new ArrayList<>(
                 List.of(0.0, -0.0, 1.0, -1.0, Double.NaN, Double.POSITIVE_INFINITY, Double.NEGATIVE_INFINITY, 1e300));
         for (ParameterDefinition p : rule.parameters()) {
@@ -194,7 +194,7 @@ class RuleExpressionTest {
         return t;
     }
 
-    private static Map<String, Object> randomValues(
+    static Map<String, Object> randomValues(
             RuleDefinition rule, Map<String, VariableType> variables, List<Double> numbers, Random random) {
         Map<String, Object> values = new HashMap<>();
         for (Map.Entry<String, VariableType> v : variables.entrySet()) {
