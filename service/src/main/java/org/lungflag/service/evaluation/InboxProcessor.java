@@ -155,6 +155,17 @@ public class InboxProcessor implements SmartLifecycle {
         return running;
     }
 
+    /** Whether the processing thread is alive (false when the processor is disabled on this instance). */
+    public boolean processing() {
+        Thread t = thread;
+        return running && t != null && t.isAlive();
+    }
+
+    /** Whether this instance processes the inbox at all. */
+    public boolean enabled() {
+        return enabled;
+    }
+
     private void loop() {
         while (running) {
             try {
@@ -164,7 +175,10 @@ public class InboxProcessor implements SmartLifecycle {
             } catch (InterruptedException e) {
                 Thread.currentThread().interrupt();
                 return;
-            } catch (RuntimeException e) {
+            } catch (RuntimeException | Error e) {
+                // never let the one processing thread die: an Error from a library (a stack overflow on a
+                // pathological resource, an allocation that failed) would stop all intake while the hook still
+                // acknowledges; the round's rows stay claimed by this owner and are taken again
                 log.error("inbox round failed ({}); retrying", e.getClass().getSimpleName(), e);
                 try {
                     Thread.sleep(pollInterval.toMillis());
