@@ -174,11 +174,14 @@ public final class PatientEvaluator {
             return Batch.empty(result);
         }
         Instant earliest = null;
-        for (Instant t : before) {
+        // indexed loops: an iterator per offered resource showed up as the largest allocation of the evaluation path
+        for (int i = 0; i < before.size(); i++) {
+            Instant t = before.get(i);
             earliest = earliest == null || t.isBefore(earliest) ? t : earliest;
         }
-        for (ClinicalFact f : facts) {
-            earliest = earliest == null || f.time().isBefore(earliest) ? f.time() : earliest;
+        for (int i = 0; i < facts.size(); i++) {
+            Instant t = facts.get(i).time();
+            earliest = earliest == null || t.isBefore(earliest) ? t : earliest;
         }
         if (earliest == null) {
             return Batch.empty(result); // a resource that contributes no facts, before or now

@@ -21,8 +21,18 @@ public final class Pairing {
 
     private final PairingSettings settings;
 
+    /** What a missing kind reports, the same for every anchor: made once instead of at every anchor. */
+    private final MissingInput[] missingByKind;
+
     public Pairing(PairingSettings settings) {
         this.settings = Objects.requireNonNull(settings, "settings");
+        Duration longestLookBack = settings.settingLookBack().compareTo(settings.measurementLookBack()) >= 0
+                ? settings.settingLookBack()
+                : settings.measurementLookBack();
+        this.missingByKind = new MissingInput[KINDS.length];
+        for (QuantityKind kind : KINDS) {
+            missingByKind[kind.ordinal()] = new MissingInput(kind, kind.staysInForce() ? null : longestLookBack);
+        }
     }
 
     public PairingSettings settings() {
@@ -36,9 +46,6 @@ public final class Pairing {
         Map<QuantityKind, Measurement> set = new EnumMap<>(QuantityKind.class);
         Map<QuantityKind, Measurement> measured = new EnumMap<>(QuantityKind.class);
         List<MissingInput> missing = new ArrayList<>();
-        Duration longestLookBack = settings.settingLookBack().compareTo(settings.measurementLookBack()) >= 0
-                ? settings.settingLookBack()
-                : settings.measurementLookBack();
         Measurement[] found = new Measurement[2];
         for (QuantityKind kind : KINDS) {
             if (kind.isCategorical()) {
@@ -55,7 +62,7 @@ public final class Pairing {
                 measured.put(kind, found[1]);
             }
             if (found[0] == null && found[1] == null) {
-                missing.add(new MissingInput(kind, kind.staysInForce() ? null : longestLookBack));
+                missing.add(missingByKind[kind.ordinal()]);
             }
         }
         return PairedInputs.owning(
