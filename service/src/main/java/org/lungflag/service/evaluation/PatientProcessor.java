@@ -477,9 +477,7 @@ public class PatientProcessor {
                 evidence = met;
             } else if (row != null && row.flagResource() != null && row.code().equals(episode.tier())) {
                 // nothing in this batch met the tier: the Flag last written for it still says why, made active again
-                flag = parseFlag(row.flagResource());
-                flag.setStatus(Flag.FlagStatus.ACTIVE);
-                flag.getPeriod().setEndElement(null);
+                flag = reactivated(row);
             } else {
                 log.warn(
                         "episode {} of Patient/{} is active at {} with no evaluation on record that met it; the Flag"
@@ -526,9 +524,7 @@ public class PatientProcessor {
         if (row == null || row.flagResource() == null) {
             return;
         }
-        Flag flag = parseFlag(row.flagResource());
-        flag.setStatus(Flag.FlagStatus.ACTIVE);
-        flag.getPeriod().setEndElement(null);
+        Flag flag = reactivated(row);
         RuleDefinition rule = rule(active.ruleId());
         EvaluationMode mode = round.modes.mode(rule.id());
         queueFlag(patientId, active, rule, flag, AdvisoryResources.detailsOf(flag), false, null, mode);
@@ -545,6 +541,14 @@ public class PatientProcessor {
                 mode,
                 encode(flag));
         round.flagWrites++;
+    }
+
+    /** The Flag last written for an episode, active again and without an end. */
+    private Flag reactivated(EpisodeRow row) {
+        Flag flag = parseFlag(row.flagResource());
+        flag.setStatus(Flag.FlagStatus.ACTIVE);
+        flag.getPeriod().setEndElement(null);
+        return flag;
     }
 
     private void withdrawVanished(
