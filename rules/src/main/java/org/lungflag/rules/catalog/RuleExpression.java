@@ -97,13 +97,11 @@ public final class RuleExpression {
                 return constant(e.constant());
             }
             case IDENT -> {
-                String name = ast.getReference(e.id())
-                        .map(CelReference::name)
-                        .orElse(e.ident().name());
-                if (ast.getReference(e.id()).flatMap(CelReference::value).isPresent()) {
+                Optional<CelReference> ref = ast.getReference(e.id());
+                if (ref.flatMap(CelReference::value).isPresent()) {
                     return null; // an enum or other constant reference
                 }
-                return variable(name);
+                return variable(ref.map(CelReference::name).orElse(e.ident().name()));
             }
             case SELECT -> {
                 // params.x is declared as one variable; the checker resolves the selection to its name
