@@ -370,6 +370,10 @@ public final class HookLoadBenchmark {
                 "--lungflag.intake.register-subscriptions=false",
                 "--lungflag.intake.catch-up-interval=1h",
                 "--lungflag.intake.catch-up-initial-look-back=1s",
+                // the Observations created on the FHIR server for the Flags' references must not come in through the
+                // first catch-up as well: they would be processed before their notification, and the latencies
+                // below would pair a notification with work done from the catch-up copy
+                "--lungflag.intake.catch-up-overlap=0s",
                 "--lungflag.evaluation.hydrate=false",
                 "--lungflag.evaluation.advance-interval=1h",
                 "--lungflag.writeback.mode=" + (options.writeBack() ? "flags" : "silent"),
@@ -380,7 +384,8 @@ public final class HookLoadBenchmark {
         if (db.equals("h2")) {
             h2 = Files.createTempDirectory("lungflag-bench");
             args.add("--spring.datasource.url=jdbc:h2:file:" + h2.resolve("lungflag")
-                    + ";MODE=PostgreSQL;DATABASE_TO_LOWER=TRUE;DEFAULT_NULL_ORDERING=HIGH;AUTO_SERVER=FALSE");
+                    + ";MODE=PostgreSQL;DATABASE_TO_LOWER=TRUE;DEFAULT_NULL_ORDERING=HIGH;AUTO_SERVER=FALSE"
+                    + (H2_STATEMENTS > 0 ? ";QUERY_STATISTICS=TRUE;QUERY_STATISTICS_MAX_ENTRIES=500" : ""));
         } else {
             schema = "lf_bench_" + run;
             args.add("--spring.datasource.url=jdbc:postgresql://127.0.0.1:5432/test?currentSchema=" + schema);
@@ -418,6 +423,9 @@ public final class HookLoadBenchmark {
             committed = (int)
                     count(jdbc, "SELECT COUNT(*) FROM intake_inbox WHERE status = 'DONE' AND channel = 'REST_HOOK'");
             heap = usedHeapAfterGc();
+            if (h2 != null && H2_STATEMENTS > 0) {
+                printCostliestStatements(jdbc);
+            }
         } finally {
             service.close();
             if (schema != null) {
@@ -489,7 +497,8 @@ public final class HookLoadBenchmark {
         Instant lastProcessed = null;
         for (int from = 0; from < ids.size(); from += 1000) {
             List<Object[]> rows = jdbc.sql(
-                            "SELECT received_at, processed_at FROM intake_inbox WHERE resource_id IN (:ids) AND status = 'DONE'")
+                            "SELECT received_at, processed_at FROM intake_inbox WHERE resource_id IN (:ids)"
+                                    + " AND status = 'DONE' AND channel = 'REST_HOOK'")
                     .param("ids", ids.subList(from, Math.min(ids.size(), from + 1000)))
                     .query((rs, n) -> new Object[] {rs.getTimestamp(1), rs.getTimestamp(2)})
                     .list();
@@ -515,7 +524,8 @@ public final class HookLoadBenchmark {
             }
             if (!triggers.isEmpty()) {
                 Map<String, Instant> received = new HashMap<>();
-                jdbc.sql("SELECT resource_id, received_at FROM intake_inbox WHERE resource_id IN (:ids)")
+                jdbc.sql("SELECT resource_id, received_at FROM intake_inbox WHERE resource_id IN (:ids)"
+                                + " AND channel = 'REST_HOOK'")
                         .param("ids", List.copyOf(triggers.keySet()))
                         .query((rs, n) -> received.put(
                                 triggers.get(rs.getString(1)),
@@ -670,6 +680,32 @@ public final class HookLoadBenchmark {
         } finally {
             ctx.close();
         }
+    }
+
+    /**
+     * {@code -Dbench.h2-statements=N}: on H2, print the N statements that took the most time in all (H2's own query
+     * statistics), to find the one to look at next.
+     */
+    private static final int H2_STATEMENTS = Integer.getInteger("bench.h2-statements", 0);
+
+    private void printCostliestStatements(JdbcClient jdbc) {
+        out.printf("%s statements by total time on H2 (count, mean rows):%n", H2_STATEMENTS);
+        jdbc.sql("SELECT SQL_STATEMENT, EXECUTION_COUNT, CUMULATIVE_EXECUTION_TIME, AVERAGE_ROW_COUNT"
+                        + " FROM INFORMATION_SCHEMA.QUERY_STATISTICS ORDER BY CUMULATIVE_EXECUTION_TIME DESC"
+                        + " FETCH FIRST :n ROWS ONLY")
+                .param("n", H2_STATEMENTS)
+                .query((rs, n) -> {
+                    String sql = rs.getString(1).replaceAll("\\s+", " ");
+                    out.printf(
+                            Locale.ROOT,
+                            "  %7.0f ms %7d x %6.1f rows  %s%n",
+                            rs.getDouble(3),
+                            rs.getLong(2),
+                            rs.getDouble(4),
+                            sql.length() > 160 ? sql.substring(0, 160) + "..." : sql);
+                    return sql;
+                })
+                .list();
     }
 
     volatile double lastParseRate;
