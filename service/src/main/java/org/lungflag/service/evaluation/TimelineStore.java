@@ -41,6 +41,16 @@ import org.springframework.stereotype.Repository;
 @Repository
 class TimelineStore {
 
+    /**
+     * Withdraws the stored facts of resources that were replaced or retracted. It is looked up through the index
+     * that starts with {@code source_id} (migration V5): with the source type first, H2 used only the type, which every
+     * Observation shares, and so read every stored value (TimelineQueryPlanTest checks the plan).
+     */
+    static final String RETRACT_SQL = """
+            UPDATE normalized_value SET retracted = TRUE
+             WHERE source_id IN (:ids) AND source_type = :type AND NOT retracted
+            """;
+
     private final JdbcClient jdbc;
     private final NamedParameterJdbcTemplate named;
     private final ObjectMapper json;
@@ -91,10 +101,7 @@ class TimelineStore {
             for (Map.Entry<String, Set<String>> e : retractedIds.entrySet()) {
                 List<String> ids = new ArrayList<>(e.getValue());
                 for (int from = 0; from < ids.size(); from += 500) {
-                    jdbc.sql("""
-                                    UPDATE normalized_value SET retracted = TRUE
-                                     WHERE source_type = :type AND source_id IN (:ids) AND NOT retracted
-                                    """)
+                    jdbc.sql(RETRACT_SQL)
                             .param("type", e.getKey())
                             .param("ids", ids.subList(from, Math.min(ids.size(), from + 500)))
                             .update();

@@ -10,6 +10,9 @@ import java.time.Instant;
 import java.util.HexFormat;
 import java.util.List;
 import org.lungflag.service.metrics.LungflagMetrics;
+import org.springframework.jdbc.core.namedparam.MapSqlParameterSource;
+import org.springframework.jdbc.core.namedparam.NamedParameterJdbcTemplate;
+import org.springframework.jdbc.core.namedparam.SqlParameterSource;
 import org.springframework.jdbc.core.simple.JdbcClient;
 import org.springframework.jdbc.support.GeneratedKeyHolder;
 import org.springframework.jdbc.support.KeyHolder;
@@ -28,12 +31,42 @@ public class InboxRepository {
     static final String CLAIMED = "CLAIMED";
     static final String DONE = "DONE";
 
+    /*
+     * The statements below run on every round or every catch-up result, against a table that keeps its DONE rows until
+     * they are purged. Each names the waiting statuses with IN rather than an OR or a <>, so H2 (the embedded default)
+     * reads the status index instead of every row: with OR it walked the whole primary key, with <> the whole table
+     * (InboxQueryPlanTest checks the plans; DEVELOPERS.md "Audit store" has the measured cost).
+     */
+
+    /** Waiting rows, oldest first: new ones, and claimed ones whose lease expired or that this owner holds. */
+    static final String CLAIM_SQL = """
+            SELECT id FROM intake_inbox
+             WHERE status IN ('NEW', 'CLAIMED')
+               AND (status = 'NEW' OR claimed_until < :now OR claimed_by = :owner)
+             ORDER BY id
+             FETCH FIRST :limit ROWS ONLY
+             FOR UPDATE SKIP LOCKED
+            """;
+
+    /** One resource version still waiting or in flight. */
+    static final String PENDING_SQL = """
+            SELECT COUNT(*) FROM intake_inbox
+             WHERE resource_id = :id AND resource_type = :type AND version_id = :version
+               AND status IN ('NEW', 'CLAIMED')
+            """;
+
+    static final String BACKLOG_SQL =
+            "SELECT COUNT(*), MIN(received_at) FROM intake_inbox WHERE status IN ('NEW', 'CLAIMED')";
+
     private final JdbcClient jdbc;
     private final Clock clock;
     private final LungflagMetrics metrics;
 
-    InboxRepository(JdbcClient jdbc, Clock clock, LungflagMetrics metrics) {
+    private final NamedParameterJdbcTemplate named;
+
+    InboxRepository(JdbcClient jdbc, NamedParameterJdbcTemplate named, Clock clock, LungflagMetrics metrics) {
         this.jdbc = jdbc;
+        this.named = named;
         this.clock = clock;
         this.metrics = metrics;
     }
@@ -42,11 +75,7 @@ public class InboxRepository {
     @Transactional
     public long add(String resourceType, String resourceId, String versionId, InboxChannel channel, String body) {
         KeyHolder keys = new GeneratedKeyHolder();
-        jdbc.sql("""
-                        INSERT INTO intake_inbox (resource_type, resource_id, version_id, channel, body, body_sha256,
-                                                  received_at, status)
-                        VALUES (:type, :id, :version, :channel, :body, :sha, :now, 'NEW')
-                        """)
+        jdbc.sql(INSERT_SQL)
                 .param("type", resourceType)
                 .param("id", resourceId)
                 .param("version", versionId)
@@ -59,13 +88,52 @@ public class InboxRepository {
         return keys.getKeyAs(Number.class).longValue();
     }
 
+    /** A row to record, stamped with its receipt time now (before it waits for a group commit). */
+    public NewRow row(String resourceType, String resourceId, String versionId, InboxChannel channel, String body) {
+        return new NewRow(resourceType, resourceId, versionId, channel, body, clock.instant());
+    }
+
+    /** One notification to record; {@code receivedAt} is when it arrived. */
+    public record NewRow(
+            String resourceType,
+            String resourceId,
+            String versionId,
+            InboxChannel channel,
+            String body,
+            Instant receivedAt) {}
+
+    /**
+     * Records several rows in one JDBC batch. Call inside a transaction: the caller acknowledges them only after it
+     * commits ({@link InboxGroupWriter}).
+     */
+    public void addAll(List<NewRow> rows) {
+        SqlParameterSource[] params = new SqlParameterSource[rows.size()];
+        for (int i = 0; i < rows.size(); i++) {
+            NewRow r = rows.get(i);
+            params[i] = new MapSqlParameterSource()
+                    .addValue("type", r.resourceType())
+                    .addValue("id", r.resourceId())
+                    .addValue("version", r.versionId())
+                    .addValue("channel", r.channel().name())
+                    .addValue("body", r.body())
+                    .addValue("sha", sha256(r.body()))
+                    .addValue("now", Timestamp.from(r.receivedAt()));
+        }
+        named.batchUpdate(INSERT_SQL, params);
+        for (NewRow r : rows) {
+            metrics.received(r.channel().name());
+        }
+    }
+
+    private static final String INSERT_SQL = """
+            INSERT INTO intake_inbox (resource_type, resource_id, version_id, channel, body, body_sha256,
+                                      received_at, status)
+            VALUES (:type, :id, :version, :channel, :body, :sha, :now, 'NEW')
+            """;
+
     /** Whether this resource version is already waiting (avoids queuing the same catch-up result twice). */
     public boolean isPending(String resourceType, String resourceId, String versionId) {
-        return jdbc.sql("""
-                        SELECT COUNT(*) FROM intake_inbox
-                         WHERE resource_type = :type AND resource_id = :id AND version_id = :version
-                           AND status <> 'DONE'
-                        """)
+        return jdbc.sql(PENDING_SQL)
                         .param("type", resourceType)
                         .param("id", resourceId)
                         .param("version", versionId)
@@ -83,13 +151,7 @@ public class InboxRepository {
     @Transactional
     public List<InboxItem> claim(String owner, int limit, Duration lease) {
         Instant now = clock.instant();
-        List<Long> ids = jdbc.sql("""
-                        SELECT id FROM intake_inbox
-                         WHERE status = 'NEW' OR (status = 'CLAIMED' AND (claimed_until < :now OR claimed_by = :owner))
-                         ORDER BY id
-                         FETCH FIRST :limit ROWS ONLY
-                         FOR UPDATE SKIP LOCKED
-                        """)
+        List<Long> ids = jdbc.sql(CLAIM_SQL)
                 .param("now", Timestamp.from(now))
                 .param("owner", owner)
                 .param("limit", limit)
@@ -158,7 +220,7 @@ public class InboxRepository {
 
     /** Rows not yet processed, and the receipt time of the oldest. */
     public Backlog backlog() {
-        return jdbc.sql("SELECT COUNT(*), MIN(received_at) FROM intake_inbox WHERE status <> 'DONE'")
+        return jdbc.sql(BACKLOG_SQL)
                 .query((rs, n) -> new Backlog(
                         rs.getLong(1),
                         rs.getTimestamp(2) == null ? null : rs.getTimestamp(2).toInstant()))
