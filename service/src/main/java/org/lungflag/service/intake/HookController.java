@@ -49,16 +49,19 @@ class HookController {
     private final QuarantineRepository quarantine;
     private final IntakeProperties properties;
     private final CatchUpSearch catchUp;
+    private final InboxGroupWriter groupWriter;
 
     HookController(
             FhirContext fhirContext,
             InboxRepository inbox,
+            InboxGroupWriter groupWriter,
             InboxSignal signal,
             QuarantineRepository quarantine,
             IntakeProperties properties,
             CatchUpSearch catchUp) {
         this.fhirContext = fhirContext;
         this.inbox = inbox;
+        this.groupWriter = groupWriter;
         this.signal = signal;
         this.quarantine = quarantine;
         this.properties = properties;
@@ -255,7 +258,7 @@ class HookController {
 
     private ResponseEntity<String> record(String type, String id, String version, InboxChannel channel, String body) {
         try {
-            inbox.add(type, id, version, channel, body);
+            groupWriter.add(inbox.row(type, id, version, channel, body));
         } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }

@@ -19,6 +19,8 @@ import org.springframework.boot.context.properties.bind.DefaultValue;
  * @param catchUpOverlap how far behind the watermark each search restarts, so a resource committed late is not
  *     missed (duplicates are harmless: intake is idempotent on id + version)
  * @param futureSkew clinical times later than now plus this are refused as future-time
+ * @param groupCommitMaxRows at most this many rest-hook notifications are committed to the inbox in one transaction
+ *     (each is acknowledged only after its transaction commits); 1 commits each on its own
  */
 @ConfigurationProperties("lungflag.intake")
 public record IntakeProperties(
@@ -29,4 +31,5 @@ public record IntakeProperties(
         @DefaultValue("2m") Duration catchUpInterval,
         @DefaultValue("48h") Duration catchUpInitialLookBack,
         @DefaultValue("10s") Duration catchUpOverlap,
-        @DefaultValue("5m") Duration futureSkew) {}
+        @DefaultValue("5m") Duration futureSkew,
+        @DefaultValue("100") int groupCommitMaxRows) {}
