@@ -109,11 +109,9 @@ class InboxGroupWriter implements SmartLifecycle {
                 queue.drainTo(group, maxRows - 1);
                 write(group);
             } catch (InterruptedException e) {
-                if (!running) {
-                    continue; // stopping: drain what is left
-                }
-                Thread.currentThread().interrupt();
-                return;
+                // nothing here interrupts this thread on purpose (stop() lets it drain and end): ending on a stray
+                // interrupt would leave every caller waiting for its timeout, so go on
+                continue;
             } catch (RuntimeException | Error e) {
                 // write() completes every caller itself; this is only a last guard for the thread
                 log.error("inbox group writer round failed ({})", e.getClass().getSimpleName(), e);
