@@ -66,14 +66,14 @@ class InboxGroupWriter implements SmartLifecycle {
      */
     void add(NewRow row) {
         if (!running || maxRows == 1) {
-            tx.executeWithoutResult(s -> inbox.addAll(List.of(row)));
+            writeAlone(row);
             return;
         }
         Pending pending = new Pending(row, new CompletableFuture<>());
         queue.add(pending);
         if (!running && queue.remove(pending)) {
             // stopped between the check and the hand-over: the writer may be gone, so record it here
-            tx.executeWithoutResult(s -> inbox.addAll(List.of(row)));
+            writeAlone(row);
             return;
         }
         try {
@@ -135,13 +135,18 @@ class InboxGroupWriter implements SmartLifecycle {
             log.debug("a group of {} inbox rows failed; recording them one by one", group.size(), e);
             for (Pending p : group) {
                 try {
-                    tx.executeWithoutResult(s -> inbox.addAll(List.of(p.row())));
+                    writeAlone(p.row());
                     p.done().complete(null);
                 } catch (RuntimeException one) {
                     p.done().completeExceptionally(one);
                 }
             }
         }
+    }
+
+    /** One row in a transaction of its own. */
+    private void writeAlone(NewRow row) {
+        tx.executeWithoutResult(s -> inbox.addAll(List.of(row)));
     }
 
     /** Rows handed over and not yet taken up by the writer. */

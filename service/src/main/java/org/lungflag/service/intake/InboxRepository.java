@@ -55,13 +55,18 @@ public class InboxRepository {
                AND status IN ('NEW', 'CLAIMED')
             """;
 
+    private static final String INSERT_SQL = """
+            INSERT INTO intake_inbox (resource_type, resource_id, version_id, channel, body, body_sha256,
+                                      received_at, status)
+            VALUES (:type, :id, :version, :channel, :body, :sha, :now, 'NEW')
+            """;
+
     static final String BACKLOG_SQL =
             "SELECT COUNT(*), MIN(received_at) FROM intake_inbox WHERE status IN ('NEW', 'CLAIMED')";
 
     private final JdbcClient jdbc;
     private final Clock clock;
     private final LungflagMetrics metrics;
-
     private final NamedParameterJdbcTemplate named;
 
     InboxRepository(JdbcClient jdbc, NamedParameterJdbcTemplate named, Clock clock, LungflagMetrics metrics) {
@@ -76,13 +81,7 @@ public class InboxRepository {
     public long add(String resourceType, String resourceId, String versionId, InboxChannel channel, String body) {
         KeyHolder keys = new GeneratedKeyHolder();
         jdbc.sql(INSERT_SQL)
-                .param("type", resourceType)
-                .param("id", resourceId)
-                .param("version", versionId)
-                .param("channel", channel.name())
-                .param("body", body)
-                .param("sha", sha256(body))
-                .param("now", Timestamp.from(clock.instant()))
+                .paramSource(params(row(resourceType, resourceId, versionId, channel, body)))
                 .update(keys, "id");
         metrics.received(channel.name());
         return keys.getKeyAs(Number.class).longValue();
@@ -109,15 +108,7 @@ public class InboxRepository {
     public void addAll(List<NewRow> rows) {
         SqlParameterSource[] params = new SqlParameterSource[rows.size()];
         for (int i = 0; i < rows.size(); i++) {
-            NewRow r = rows.get(i);
-            params[i] = new MapSqlParameterSource()
-                    .addValue("type", r.resourceType())
-                    .addValue("id", r.resourceId())
-                    .addValue("version", r.versionId())
-                    .addValue("channel", r.channel().name())
-                    .addValue("body", r.body())
-                    .addValue("sha", sha256(r.body()))
-                    .addValue("now", Timestamp.from(r.receivedAt()));
+            params[i] = params(rows.get(i));
         }
         named.batchUpdate(INSERT_SQL, params);
         for (NewRow r : rows) {
@@ -125,11 +116,16 @@ public class InboxRepository {
         }
     }
 
-    private static final String INSERT_SQL = """
-            INSERT INTO intake_inbox (resource_type, resource_id, version_id, channel, body, body_sha256,
-                                      received_at, status)
-            VALUES (:type, :id, :version, :channel, :body, :sha, :now, 'NEW')
-            """;
+    private static SqlParameterSource params(NewRow r) {
+        return new MapSqlParameterSource()
+                .addValue("type", r.resourceType())
+                .addValue("id", r.resourceId())
+                .addValue("version", r.versionId())
+                .addValue("channel", r.channel().name())
+                .addValue("body", r.body())
+                .addValue("sha", sha256(r.body()))
+                .addValue("now", Timestamp.from(r.receivedAt()));
+    }
 
     /** Whether this resource version is already waiting (avoids queuing the same catch-up result twice). */
     public boolean isPending(String resourceType, String resourceId, String versionId) {
