@@ -1,6 +1,7 @@
 package org.lungflag.service.reliability.bench;
 
 import ca.uhn.fhir.context.FhirContext;
+import ca.uhn.fhir.parser.IParser;
 import ca.uhn.fhir.rest.client.api.IGenericClient;
 import ca.uhn.fhir.rest.client.api.ServerValidationModeEnum;
 import java.io.IOException;
@@ -351,28 +352,32 @@ public final class HookLoadBenchmark {
         int group = Math.min(100, patients.size());
         // every patient's first record first (the warm-up sends them), then the rest block by block
         int firstK = options.warmupSeconds() > 0 ? 1 : 0;
-        for (int p = 0; p < patients.size() && firstK == 1 && sent.size() < total; p++) {
-            String id = "ld-" + run + "-" + p + "-0";
-            sent.add(new Sent(
-                    id, parser.encodeResourceToString(record(patients.get(p), p, 0, base, id)), null, p % 10 == 0));
+        if (firstK == 1) {
+            for (int p = 0; p < patients.size() && sent.size() < total; p++) {
+                sent.add(sent(run, patients, p, 0, base, parser));
+            }
         }
         for (int block = 0; block * group < patients.size() && sent.size() < total; block++) {
             int first = block * group;
             int size = Math.min(group, patients.size() - first);
             for (int k = firstK; k < perPatient && sent.size() < total; k++) {
                 for (int q = 0; q < size && sent.size() < total; q++) {
-                    int p = first + q;
-                    String id = "ld-" + run + "-" + p + "-" + k;
-                    boolean trigger = k >= 2 && (k - 2) % 4 == 2 && p % 10 == 0 && (k - 2) / 4 == (p / 10) % 4;
-                    sent.add(new Sent(
-                            id,
-                            parser.encodeResourceToString(record(patients.get(p), p, k, base, id)),
-                            trigger ? patients.get(p) : null,
-                            p % 10 == 0));
+                    sent.add(sent(run, patients, first + q, k, base, parser));
                 }
             }
         }
         return sent;
+    }
+
+    /** The k-th record of patient p as a notification body. */
+    private Sent sent(String run, List<String> patients, int p, int k, Instant base, IParser parser) {
+        String id = "ld-" + run + "-" + p + "-" + k;
+        boolean trigger = k >= 2 && (k - 2) % 4 == 2 && p % 10 == 0 && (k - 2) / 4 == (p / 10) % 4;
+        return new Sent(
+                id,
+                parser.encodeResourceToString(record(patients.get(p), p, k, base, id)),
+                trigger ? patients.get(p) : null,
+                p % 10 == 0);
     }
 
     private Result runOne(String db, String run, List<String> patients, List<Sent> load) throws Exception {
