@@ -51,13 +51,22 @@ class ScenarioPlayerTest {
         return page.getEntry().stream().map(e -> (Observation) e.getResource()).toList();
     }
 
-    private long scenarioObservationsUpTo(String patient, double hours) {
+    /** The scenario's Observations, all patients, charted no later than the given hour. */
+    private List<Observation> scenarioObservationsUpTo(double hours) {
         Instant end = scenario.nominalStart().plusSeconds(Math.round(hours * 3600));
         return scenario.lines("Observation.ndjson").stream()
                 .map(line -> fhir.newJsonParser().parseResource(Observation.class, line))
+                .filter(o -> !chartedAt(o).isAfter(end))
+                .toList();
+    }
+
+    private static Instant chartedAt(Observation observation) {
+        return observation.getEffectiveDateTimeType().getValue().toInstant();
+    }
+
+    private long scenarioObservationsUpTo(String patient, double hours) {
+        return scenarioObservationsUpTo(hours).stream()
                 .filter(o -> o.getSubject().getReference().equals("Patient/" + patient))
-                .filter(o ->
-                        !o.getEffectiveDateTimeType().getValue().toInstant().isAfter(end))
                 .count();
     }
 
@@ -86,7 +95,7 @@ class ScenarioPlayerTest {
         List<Observation> posted = observationsOf("demo-01");
         assertThat((long) posted.size()).isEqualTo(scenarioObservationsUpTo("demo-01", 6));
         Instant latest = posted.stream()
-                .map(o -> o.getEffectiveDateTimeType().getValue().toInstant())
+                .map(ScenarioPlayerTest::chartedAt)
                 .max(Comparator.naturalOrder())
                 .orElseThrow();
         assertThat(latest)
@@ -110,14 +119,8 @@ class ScenarioPlayerTest {
 
     /** Clinical time from the first to the last Observation charted up to the given hour, all patients. */
     private Duration pacedSpanUpTo(double hours) {
-        Instant end = scenario.nominalStart().plusSeconds(Math.round(hours * 3600));
-        List<Instant> times = scenario.lines("Observation.ndjson").stream()
-                .map(line -> fhir.newJsonParser()
-                        .parseResource(Observation.class, line)
-                        .getEffectiveDateTimeType()
-                        .getValue()
-                        .toInstant())
-                .filter(t -> !t.isAfter(end))
+        List<Instant> times = scenarioObservationsUpTo(hours).stream()
+                .map(ScenarioPlayerTest::chartedAt)
                 .sorted()
                 .toList();
         return Duration.between(times.get(0), times.get(times.size() - 1));
