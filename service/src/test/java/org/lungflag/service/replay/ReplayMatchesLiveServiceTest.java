@@ -264,13 +264,23 @@ class ReplayMatchesLiveServiceTest {
                 .untilAsserted(() -> {
                     TreeSet<String> live = new TreeSet<>();
                     for (String id : patientIds) {
-                        fhir.search()
+                        fhir
+                                .search()
                                 .forResource(Flag.class)
                                 .where(Flag.PATIENT.hasId("Patient/" + id))
                                 .returnBundle(Bundle.class)
                                 .execute()
                                 .getEntry()
-                                .forEach(e -> live.add(key((Flag) e.getResource())));
+                                .stream()
+                                .map(e -> (Flag) e.getResource())
+                                // posted at full speed, the notifications can reach the service out of charted
+                                // order, so a blood gas may be evaluated before the settings it pairs with; the
+                                // late fact re-runs the patient and withdraws what should never have been
+                                // raised as entered-in-error (DEVELOPERS.md, "Late or reordered facts"). A
+                                // withdrawn Flag is not an advisory that stands, and the audit counts leave it
+                                // out too; every other live Flag must match the replay exactly.
+                                .filter(f -> f.getStatus() != Flag.FlagStatus.ENTEREDINERROR)
+                                .forEach(f -> live.add(key(f)));
                     }
                     assertThat(live).isEqualTo(replayed);
                 });
