@@ -28,12 +28,21 @@ final class IndexDistribution {
         this.unit = unit;
     }
 
+    /** The sampling key of one value: a hash of patient, anchor time and index, so any order gives one sample. */
+    static long key(String patientId, long epochSecond, String code) {
+        return Spill.hash(patientId + "@" + epochSecond + "#" + code);
+    }
+
     void add(String patientId, long epochSecond, double value) {
+        add(key(patientId, epochSecond, code), value);
+    }
+
+    /** Adds a value whose {@link #key} was worked out already (on a replay worker). */
+    void add(long key, double value) {
         count++;
         min = Math.min(min, value);
         max = Math.max(max, value);
         sum += value;
-        long key = Spill.hash(patientId + "@" + epochSecond + "#" + code);
         if (sample.size() < CAP) {
             sample.add(new Sampled(key, value));
         } else if (key < sample.peek().key) {

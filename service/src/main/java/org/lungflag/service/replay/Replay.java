@@ -845,7 +845,13 @@ final class Replay {
             PatientRun run,
             List<PatientRun> variantRuns,
             List<String> indices,
-            List<String> flags) {}
+            List<String> flags,
+            String csvRows,
+            long csvRowCount,
+            List<IndexPoint> indexPoints) {}
+
+    /** One derived-index value for the distributions, first seen at its anchor time, with its sampling key. */
+    private record IndexPoint(String code, String unit, long key, double value) {}
 
     private PatientResult compute(String id, PatientData d) {
         List<NormalizedResource> resources = latestVersions(id, d.resources);
@@ -863,7 +869,19 @@ final class Replay {
         }
         if (last == null) {
             return new PatientResult(
-                    id, d.facts == null, resources, null, null, null, null, List.of(), List.of(), List.of());
+                    id,
+                    d.facts == null,
+                    resources,
+                    null,
+                    null,
+                    null,
+                    null,
+                    List.of(),
+                    List.of(),
+                    List.of(),
+                    "",
+                    0,
+                    List.of());
         }
         Instant end = exportEnd != null && exportEnd.isAfter(last) ? exportEnd : last;
         PatientRun run = offline.run(facts, resources, end);
@@ -885,7 +903,41 @@ final class Replay {
         for (OfflineEvaluation v : variants) {
             variantRuns.add(v.run(facts, resources, end));
         }
-        return new PatientResult(id, d.facts == null, resources, first, last, end, run, variantRuns, indices, flags);
+        // the evaluations.csv rows and the distribution points are worked out here, on the worker, so the thread
+        // that writes the results in patient order only appends them
+        StringBuilder rows = new StringBuilder(run.evaluations().size() * 160);
+        List<IndexPoint> points = new ArrayList<>();
+        Map<IndexAt, Boolean> seenIndex = new HashMap<>();
+        Instant rowTime = null;
+        String rowTimeText = null;
+        for (RuleEvaluation e : run.evaluations()) {
+            if (!e.at().equals(rowTime)) {
+                rowTime = e.at();
+                rowTimeText = rowTime.toString();
+            }
+            csvRow(rows, e, rowTimeText);
+            for (UsedIndex u : e.explanation().indices()) {
+                if (seenIndex.put(new IndexAt(u.code(), e.at()), Boolean.TRUE) == null) {
+                    String code = u.code().code();
+                    points.add(new IndexPoint(
+                            code, u.unit(), IndexDistribution.key(id, e.at().getEpochSecond(), code), u.value()));
+                }
+            }
+        }
+        return new PatientResult(
+                id,
+                d.facts == null,
+                resources,
+                first,
+                last,
+                end,
+                run,
+                variantRuns,
+                indices,
+                flags,
+                rows.toString(),
+                run.evaluations().size(),
+                points);
     }
 
     private void consume(PatientResult r, Writer indicesOut, Writer advisoriesOut, Writer csv) throws IOException {
@@ -909,25 +961,12 @@ final class Replay {
             flagsWritten++;
         }
         PatientRun run = r.run();
-        Map<IndexAt, Boolean> seenIndex = new HashMap<>();
-        StringBuilder row = rowBuffer;
-        Instant rowTime = null;
-        String rowTimeText = null;
-        for (RuleEvaluation e : run.evaluations()) {
-            if (!e.at().equals(rowTime)) {
-                rowTime = e.at();
-                rowTimeText = rowTime.toString();
-            }
-            row.setLength(0);
-            csv.append(csvRow(row, e, rowTimeText));
-            evaluationRows++;
-            for (UsedIndex u : e.explanation().indices()) {
-                if (seenIndex.put(new IndexAt(u.code(), e.at()), Boolean.TRUE) == null) {
-                    distributions
-                            .computeIfAbsent(u.code().code(), k -> new IndexDistribution(k, u.unit()))
-                            .add(r.id(), e.at().getEpochSecond(), u.value());
-                }
-            }
+        csv.write(r.csvRows());
+        evaluationRows += r.csvRowCount();
+        for (IndexPoint p : r.indexPoints()) {
+            distributions
+                    .computeIfAbsent(p.code(), k -> new IndexDistribution(k, p.unit()))
+                    .add(p.key(), p.value());
         }
         for (RuleTally t : tallies.values()) {
             t.add(run.evaluations(), run.episodes(), r.end());
@@ -1028,9 +1067,6 @@ final class Replay {
 
     /** One index and anchor time (the distributions count each once per patient). */
     private record IndexAt(IndexCode code, Instant at) {}
-
-    /** The row buffer of {@link #consume} (reading thread only). */
-    private final StringBuilder rowBuffer = new StringBuilder(256);
 
     /** One evaluations.csv row, appended to {@code row}; {@code time} is {@code e.at().toString()}. */
     private static StringBuilder csvRow(StringBuilder row, RuleEvaluation e, String time) {

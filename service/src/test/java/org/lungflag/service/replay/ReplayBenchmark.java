@@ -37,11 +37,14 @@ import org.lungflag.service.offline.Pipelines;
  *       several processors it may use more CPU than parse-only; the line says how many and the CPU time it took;
  * </ol>
  *
- * for the file and for one ten times larger, and the heap high-water of each replay (the largest heap in use just
- * after a collection, so garbage does not count). Run (see DEVELOPERS.md "Replay"):
+ * for the file and for one ten times larger, after {@link #WARMUP_ROUNDS} rounds of both on the small file (so the
+ * JIT has compiled both paths before either is measured). Each file gets several rounds with the two paths
+ * alternating (a burst of load from a neighbour then spoils one pair, not one side); every round is printed, then
+ * the medians and their ratio, and the heap high-water of the replays (the largest heap in use just after a
+ * collection, so garbage does not count). Run (see DEVELOPERS.md "Replay"; the second argument is the rounds):
  *
  * <pre>
- * java -Xmx1g -cp "$CP" org.lungflag.service.replay.ReplayBenchmark 150
+ * java -Xmx1g -cp "$CP" org.lungflag.service.replay.ReplayBenchmark 100 3
  * </pre>
  */
 public final class ReplayBenchmark {
@@ -51,6 +54,7 @@ public final class ReplayBenchmark {
     public static void main(String[] args) throws Exception {
         ReplayCommand.quietLogging();
         int patients = args.length > 0 ? Integer.parseInt(args[0]) : 150;
+        int rounds = args.length > 1 ? Integer.parseInt(args[1]) : 3;
         Path dir = Files.createTempDirectory("replay-bench-");
         Path small = dir.resolve("small.ndjson");
         Path large = dir.resolve("large.ndjson");
@@ -63,33 +67,55 @@ public final class ReplayBenchmark {
                 Files.size(small) >> 20,
                 largeObs,
                 Files.size(large) >> 20);
-        // warm-up of both paths on the small file
-        parseOnly(small);
-        replay(small, dir.resolve("warm"));
+        // warm-up of both paths on the small file, so neither is measured while the JIT is still compiling it
+        for (int i = 0; i < WARMUP_ROUNDS; i++) {
+            parseOnly(small);
+            replay(small, dir.resolve("warm"));
+        }
         int threads = Replay.Tuning.defaults().threads();
         for (Path file : List.of(small, large)) {
             long obs = file == small ? smallObs : largeObs;
-            long cpu0 = cpuNanos();
-            double parse = parseOnly(file);
-            double parseCpu = (cpuNanos() - cpu0) / 1e9;
+            double[] parse = new double[rounds];
+            double[] replay = new double[rounds];
+            double parseCpu = 0;
+            double replayCpu = 0;
             HeapSampler heap = new HeapSampler();
             heap.start();
-            cpu0 = cpuNanos();
-            double seconds = replay(file, dir.resolve("out-" + file.getFileName()));
-            double replayCpu = (cpuNanos() - cpu0) / 1e9;
+            // the two paths alternate, so a burst of load from a neighbour spoils one pair, not one side
+            for (int round = 0; round < rounds; round++) {
+                heap.paused = true;
+                long cpu0 = cpuNanos();
+                parse[round] = parseOnly(file);
+                parseCpu += (cpuNanos() - cpu0) / 1e9;
+                heap.paused = false;
+                cpu0 = cpuNanos();
+                replay[round] = replay(file, dir.resolve("out-" + file.getFileName()));
+                replayCpu += (cpuNanos() - cpu0) / 1e9;
+                System.out.printf(
+                        Locale.ROOT,
+                        "  %s round %d: parse-only %,.0f Observations/s, replay %,.0f Observations/s = %.0f %%%n",
+                        file.getFileName(),
+                        round + 1,
+                        obs / parse[round],
+                        obs / replay[round],
+                        100.0 * parse[round] / replay[round]);
+            }
             heap.stopSampling();
+            double parseMedian = median(parse);
+            double replayMedian = median(replay);
             System.out.printf(
                     Locale.ROOT,
-                    "%s: parse-only (1 thread) %,.0f Observations/s; replay (%d worker threads + 1) %,.0f"
-                            + " Observations/s = %.0f %% of parse-only; CPU time parse-only %.1f s, replay %.1f s;"
-                            + " heap high-water after GC %,d MiB (in use at most %,d MiB)%n",
+                    "%s, median of %d rounds: parse-only (1 thread) %,.0f Observations/s; replay (%d worker threads"
+                            + " + 1) %,.0f Observations/s = %.0f %% of parse-only; CPU time per round parse-only"
+                            + " %.1f s, replay %.1f s; heap high-water after GC %,d MiB (in use at most %,d MiB)%n",
                     file.getFileName(),
-                    obs / parse,
+                    rounds,
+                    obs / parseMedian,
                     threads,
-                    obs / seconds,
-                    100.0 * parse / seconds,
-                    parseCpu,
-                    replayCpu,
+                    obs / replayMedian,
+                    100.0 * parseMedian / replayMedian,
+                    parseCpu / rounds,
+                    replayCpu / rounds,
                     heap.maxAfterGc.get() >> 20,
                     heap.maxUsed.get() >> 20);
         }
@@ -99,6 +125,16 @@ public final class ReplayBenchmark {
                         + " average %.2f; CPU time is the whole JVM's, collector and JIT included)%n",
                 Runtime.getRuntime().availableProcessors(),
                 ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage());
+    }
+
+    /** Rounds of each path on the small file before anything is measured. */
+    static final int WARMUP_ROUNDS = 3;
+
+    private static double median(double[] values) {
+        double[] sorted = values.clone();
+        java.util.Arrays.sort(sorted);
+        int n = sorted.length;
+        return n % 2 == 1 ? sorted[n / 2] : (sorted[n / 2 - 1] + sorted[n / 2]) / 2;
     }
 
     /** CPU time of the whole JVM (all threads), or 0 where the platform does not say. */
@@ -224,6 +260,8 @@ public final class ReplayBenchmark {
         final AtomicLong maxUsed = new AtomicLong();
         final AtomicLong maxAfterGc = new AtomicLong();
         private volatile boolean running = true;
+        /** While set (parse-only rounds), samples are not taken: the figures are replay's alone. */
+        volatile boolean paused;
 
         HeapSampler() {
             setDaemon(true);
@@ -236,6 +274,10 @@ public final class ReplayBenchmark {
                     .filter(p -> p.getType() == MemoryType.HEAP)
                     .toList();
             while (running) {
+                if (paused) {
+                    sleepQuietly();
+                    continue;
+                }
                 long used = 0;
                 long afterGc = 0;
                 for (MemoryPoolMXBean p : pools) {
@@ -246,11 +288,15 @@ public final class ReplayBenchmark {
                 }
                 maxUsed.accumulateAndGet(used, Math::max);
                 maxAfterGc.accumulateAndGet(afterGc, Math::max);
-                try {
-                    Thread.sleep(20);
-                } catch (InterruptedException e) {
-                    return;
-                }
+                sleepQuietly();
+            }
+        }
+
+        private void sleepQuietly() {
+            try {
+                Thread.sleep(20);
+            } catch (InterruptedException e) {
+                running = false;
             }
         }
 

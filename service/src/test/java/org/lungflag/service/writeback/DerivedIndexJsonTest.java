@@ -81,6 +81,36 @@ class DerivedIndexJsonTest {
     }
 
     /** Ids HAPI might write differently (not FHIR ids), text with edge whitespace: handed to HAPI, still equal. */
+    /**
+     * The hand-written id checks against the regular expressions of the FHIR R4 specification: the id datatype
+     * {@code [A-Za-z0-9\-\.]{1,64}} (http://hl7.org/fhir/R4/datatypes.html#id) and a reference's resource type (a
+     * capitalised name of letters; common practice, no source for the 64-character cap, which this writer chooses).
+     */
+    @Test
+    void idChecksAgreeWithTheSpecificationsRegularExpressions() {
+        java.util.regex.Pattern id = java.util.regex.Pattern.compile("[A-Za-z0-9\\-\\.]{1,64}");
+        java.util.regex.Pattern type = java.util.regex.Pattern.compile("[A-Z][A-Za-z]{0,63}");
+        Random random = new Random(11);
+        String alphabet = "aZz09-._ /:|#üÀ\u0000\u00e9\"";
+        List<String> tried = new ArrayList<>(List.of("", "a", "x".repeat(64), "x".repeat(65), "Observation", "obs"));
+        for (int i = 0; i < 20_000; i++) {
+            StringBuilder b = new StringBuilder();
+            int n = random.nextInt(i % 100 == 0 ? 70 : 8);
+            for (int k = 0; k < n; k++) {
+                b.append(alphabet.charAt(random.nextInt(alphabet.length())));
+            }
+            tried.add(b.toString());
+        }
+        for (String s : tried) {
+            assertThat(DerivedIndexJson.isFhirId(s))
+                    .as("id %s", s)
+                    .isEqualTo(id.matcher(s).matches());
+            assertThat(DerivedIndexJson.isResourceType(s))
+                    .as("type %s", s)
+                    .isEqualTo(type.matcher(s).matches());
+        }
+    }
+
     @Test
     void whatItDoesNotWriteItselfGoesThroughHapi() {
         IParser hapi = FHIR.newJsonParser();
