@@ -269,6 +269,9 @@ final class Replay {
     /** Runs both passes and writes every output file. */
     void run() throws IOException {
         Files.createDirectories(out);
+        // written last: a folder without them holds a run that did not finish, not an older run's figures
+        Files.deleteIfExists(out.resolve("summary.json"));
+        Files.deleteIfExists(out.resolve("report.html"));
         for (Input in : inputs) {
             bytesTotal += Files.size(in.path());
         }

@@ -41,6 +41,8 @@ public final class ReplayCommand {
     public static final int OK = 0;
     public static final int BAD_ARGUMENTS = 2;
     public static final int SOME_REJECTED = 3;
+    /** The replay could not finish (it ran out of memory); the outputs are incomplete and summary.json is absent. */
+    public static final int FAILED = 1;
 
     private ReplayCommand() {}
 
@@ -69,6 +71,23 @@ public final class ReplayCommand {
 
     /** As above, with the threads and index encoding tests and the benchmark choose (no output depends on them). */
     static int run(
+            List<String> args,
+            PrintStream err,
+            boolean terminal,
+            Duration plainProgressEvery,
+            long bytesPerBucket,
+            Replay.Tuning tuning) {
+        try {
+            return runOnce(args, err, terminal, plainProgressEvery, bytesPerBucket, tuning);
+        } catch (OutOfMemoryError e) {
+            // what was held is unreachable now, so this line can be printed; the heap needed depends on the spill
+            // bucket size, not on the export's size (README "Replay")
+            err.println(outOfMemory(Runtime.getRuntime().maxMemory()));
+            return FAILED;
+        }
+    }
+
+    private static int runOnce(
             List<String> args,
             PrintStream err,
             boolean terminal,
@@ -149,6 +168,13 @@ public final class ReplayCommand {
                 replay.partlyRefusedLines,
                 outDir);
         return replay.rejectedLines > 0 || replay.partlyRefusedLines > 0 ? SOME_REJECTED : OK;
+    }
+
+    /** The one line printed when a replay runs out of memory. */
+    static String outOfMemory(long maxHeapBytes) {
+        return "replay: ran out of memory (maximum heap " + (maxHeapBytes >> 20) + " MiB), so the outputs in the --out"
+                + " folder are incomplete (there is no summary.json); run it again with a larger heap, e.g. java"
+                + " -Xmx512m -jar lungflag-service.jar replay ...";
     }
 
     /** The NDJSON files: PATH itself, or the {@code .ndjson} (and {@code .ndjson.gz}) files in it, by name. */
