@@ -33,10 +33,6 @@ final class IndexDistribution {
         return Spill.hash(patientId + "@" + epochSecond + "#" + code);
     }
 
-    void add(String patientId, long epochSecond, double value) {
-        add(key(patientId, epochSecond, code), value);
-    }
-
     /** Adds a value whose {@link #key} was worked out already (on a replay worker). */
     void add(long key, double value) {
         count++;
