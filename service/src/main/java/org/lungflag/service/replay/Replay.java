@@ -850,7 +850,6 @@ final class Replay {
             List<String> indices,
             List<String> flags,
             String csvRows,
-            long csvRowCount,
             List<IndexPoint> indexPoints) {}
 
     /** One derived-index value for the distributions, first seen at its anchor time, with its sampling key. */
@@ -883,7 +882,6 @@ final class Replay {
                     List.of(),
                     List.of(),
                     "",
-                    0,
                     List.of());
         }
         Instant end = exportEnd != null && exportEnd.isAfter(last) ? exportEnd : last;
@@ -939,7 +937,6 @@ final class Replay {
                 indices,
                 flags,
                 rows.toString(),
-                run.evaluations().size(),
                 points);
     }
 
@@ -965,7 +962,7 @@ final class Replay {
         }
         PatientRun run = r.run();
         csv.write(r.csvRows());
-        evaluationRows += r.csvRowCount();
+        evaluationRows += run.evaluations().size();
         for (IndexPoint p : r.indexPoints()) {
             distributions
                     .computeIfAbsent(p.code(), k -> new IndexDistribution(k, p.unit()))
