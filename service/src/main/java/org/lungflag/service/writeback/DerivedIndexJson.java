@@ -21,6 +21,7 @@ import org.lungflag.fhir.profiles.LungflagFhir;
 import org.lungflag.rules.engine.UsedIndex;
 import org.lungflag.rules.index.IndexCode;
 import org.lungflag.rules.measure.SourceRef;
+import org.lungflag.service.normalize.ObservationMapper;
 
 /**
  * The JSON of {@link AdvisoryResources#derivedIndex}'s Observation, written straight into a string instead of
@@ -39,24 +40,9 @@ import org.lungflag.rules.measure.SourceRef;
 public final class DerivedIndexJson {
 
     /**
-     * FHIR R4 id datatype (http://hl7.org/fhir/R4/datatypes.html#id): {@code [A-Za-z0-9\-.]{1,64}}, checked by hand
-     * (a regular expression per id was a tenth of this writer's time in replay).
+     * A resource type as a reference writes it: {@code [A-Z][A-Za-z]{0,63}}, checked by hand like {@link
+     * ObservationMapper#isFhirId} (a regular expression per reference was a tenth of this writer's time in replay).
      */
-    static boolean isFhirId(String s) {
-        int n = s.length();
-        if (n < 1 || n > 64) {
-            return false;
-        }
-        for (int i = 0; i < n; i++) {
-            char c = s.charAt(i);
-            if (!(c >= 'A' && c <= 'Z' || c >= 'a' && c <= 'z' || c >= '0' && c <= '9' || c == '-' || c == '.')) {
-                return false;
-            }
-        }
-        return true;
-    }
-
-    /** A resource type as a reference writes it: {@code [A-Z][A-Za-z]{0,63}}. */
     static boolean isResourceType(String s) {
         int n = s.length();
         if (n < 1 || n > 64 || s.charAt(0) < 'A' || s.charAt(0) > 'Z') {
@@ -96,7 +82,7 @@ public final class DerivedIndexJson {
         String notes = String.join(" ", index.notes());
         String formula = index.formula().toString();
         List<String> derivedFrom = new ArrayList<>(index.inputs().size());
-        boolean plain = isFhirId(patientId)
+        boolean plain = ObservationMapper.isFhirId(patientId)
                 && Double.isFinite(index.value())
                 && plainText(code.code())
                 && plainText(code.display())
@@ -110,8 +96,8 @@ public final class DerivedIndexJson {
                 break;
             }
             plain = isResourceType(input.resourceType())
-                    && isFhirId(input.id())
-                    && (input.version() == null || isFhirId(input.version()));
+                    && ObservationMapper.isFhirId(input.id())
+                    && (input.version() == null || ObservationMapper.isFhirId(input.version()));
             String ref = input.toString();
             if (!derivedFrom.contains(ref)) {
                 derivedFrom.add(ref);

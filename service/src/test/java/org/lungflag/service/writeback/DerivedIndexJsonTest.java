@@ -82,7 +82,7 @@ class DerivedIndexJsonTest {
 
     /** Ids HAPI might write differently (not FHIR ids), text with edge whitespace: handed to HAPI, still equal. */
     /**
-     * The hand-written id checks against the regular expressions of the FHIR R4 specification: the id datatype
+     * The hand-written id checks (ObservationMapper's, which this writer uses, and the resource-type check) against the regular expressions of the FHIR R4 specification: the id datatype
      * {@code [A-Za-z0-9\-\.]{1,64}} (http://hl7.org/fhir/R4/datatypes.html#id) and a reference's resource type (a
      * capitalised name of letters; common practice, no source for the 64-character cap, which this writer chooses).
      */
@@ -102,7 +102,7 @@ class DerivedIndexJsonTest {
             tried.add(b.toString());
         }
         for (String s : tried) {
-            assertThat(DerivedIndexJson.isFhirId(s))
+            assertThat(org.lungflag.service.normalize.ObservationMapper.isFhirId(s))
                     .as("id %s", s)
                     .isEqualTo(id.matcher(s).matches());
             assertThat(DerivedIndexJson.isResourceType(s))
