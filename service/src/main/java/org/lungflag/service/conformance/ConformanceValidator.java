@@ -10,6 +10,7 @@ import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.function.Function;
 import org.hl7.fhir.common.hapi.validation.support.CommonCodeSystemsTerminologyService;
 import org.hl7.fhir.common.hapi.validation.support.InMemoryTerminologyServerValidationSupport;
 import org.hl7.fhir.common.hapi.validation.support.NpmPackageValidationSupport;
@@ -23,15 +24,31 @@ import org.lungflag.service.writeback.OutgoingValidator;
 
 /**
  * Validates what Lungflag writes against its conformance package with HAPI's instance validator: one thread-safe
- * validator per application (fhir-notes.md: the first validation loads the core definitions, several seconds,
- * then about 20 ms each). Unknown code systems (LOINC, SNOMED CT, MDC without a terminology server) are
+ * validator per application (fhir-notes.md: the first validation loads the core definitions, several seconds).
+ * HAPI's validator module is replaced by {@link ReusingInstanceValidator}, which gives the same messages without
+ * building the core validator anew for every resource. Unknown code systems (LOINC, SNOMED CT, MDC without a terminology server) are
  * warnings; a code outside an enumerated ValueSet stays an error.
  */
 public final class ConformanceValidator implements OutgoingValidator {
 
+    /**
+     * How many resources one core validator checks before it is replaced: enough that building it (~12 ms) is
+     * small beside the validations, few enough that the lists it never clears stay small.
+     */
+    static final int VALIDATIONS_PER_INSTANCE = 64;
+
     private final FhirValidator validator;
 
     public ConformanceValidator(FhirContext fhir) {
+        this.validator = validator(fhir, chain -> new ReusingInstanceValidator(chain, VALIDATIONS_PER_INSTANCE));
+    }
+
+    /**
+     * A HAPI validator over the conformance package, the core definitions and the built-in terminology, with the
+     * instance-validator module {@code module} makes from that support chain (here the reusing one; in its test,
+     * HAPI's own as the reference).
+     */
+    static FhirValidator validator(FhirContext fhir, Function<IValidationSupport, FhirInstanceValidator> module) {
         NpmPackageValidationSupport npm = new NpmPackageValidationSupport(fhir);
         try {
             npm.loadPackageFromClasspath(LungflagFhir.PACKAGE_CLASSPATH);
@@ -47,10 +64,11 @@ public final class ConformanceValidator implements OutgoingValidator {
                 new InMemoryTerminologyServerValidationSupport(fhir),
                 new SnapshotGeneratingValidationSupport(fhir),
                 unknown);
-        FhirInstanceValidator instance = new FhirInstanceValidator(chain);
+        FhirInstanceValidator instance = module.apply(chain);
         instance.setAssumeValidRestReferences(true);
-        this.validator = fhir.newValidator();
-        this.validator.registerValidatorModule(instance);
+        FhirValidator validator = fhir.newValidator();
+        validator.registerValidatorModule(instance);
+        return validator;
     }
 
     @Override
