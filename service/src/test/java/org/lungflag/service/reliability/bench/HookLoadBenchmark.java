@@ -178,10 +178,11 @@ public final class HookLoadBenchmark {
     }
 
     public static void main(String[] args) throws Exception {
-        Options options = parse(args);
-        HookLoadBenchmark bench = new HookLoadBenchmark(options, System.out);
         try {
-            bench.runAll();
+            new HookLoadBenchmark(parse(args), System.out).runAll();
+        } catch (IllegalArgumentException e) {
+            System.err.println(e.getMessage()); // the options: one line, nothing was started
+            System.exit(2);
         } catch (Exception | Error e) {
             e.printStackTrace();
             System.exit(1); // the services' non-daemon threads would keep the JVM alive
@@ -219,9 +220,20 @@ public final class HookLoadBenchmark {
         for (int i = 0; i < options.patients(); i++) {
             patientIds.add("load-" + run + "-" + i);
         }
-        createPatients(patientIds);
         int total = warmupCount()
                 + Arrays.stream(options.rates()).map(r -> r * options.seconds()).sum();
+        // a patient's first blood gas (PaO2) is their fifth record: with fewer, nothing is evaluated or flagged
+        if (total < 5L * options.patients()) {
+            throw new IllegalArgumentException(String.format(
+                    Locale.ROOT,
+                    "%d Observations over %d patients is fewer than 5 each, so no patient would get a blood gas and"
+                            + " nothing would be evaluated; raise --rates or --seconds, or lower --patients (at"
+                            + " least %d Observations in all)",
+                    total,
+                    options.patients(),
+                    5L * options.patients()));
+        }
+        createPatients(patientIds);
         List<Sent> load = generate(run, patientIds, total);
         if (options.writeBack()) {
             // the Flags cite the records they were computed from, and the server refuses references to what it does
