@@ -26,8 +26,8 @@ import org.lungflag.service.writeback.OutgoingValidator;
  * Validates what Lungflag writes against its conformance package with HAPI's instance validator: one thread-safe
  * validator per application (fhir-notes.md: the first validation loads the core definitions, several seconds).
  * HAPI's validator module is replaced by {@link ReusingInstanceValidator}, which gives the same messages without
- * building the core validator anew for every resource. Unknown code systems (LOINC, SNOMED CT, MDC without a terminology server) are
- * warnings; a code outside an enumerated ValueSet stays an error.
+ * building the core validator anew for every resource. Unknown code systems (LOINC, SNOMED CT, MDC without a
+ * terminology server) are warnings; a code outside an enumerated ValueSet stays an error.
  */
 public final class ConformanceValidator implements OutgoingValidator {
 

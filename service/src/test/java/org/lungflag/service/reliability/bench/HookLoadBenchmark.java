@@ -178,11 +178,17 @@ public final class HookLoadBenchmark {
     }
 
     public static void main(String[] args) throws Exception {
+        HookLoadBenchmark bench;
         try {
-            new HookLoadBenchmark(parse(args), System.out).runAll();
+            bench = new HookLoadBenchmark(parse(args), System.out);
+            bench.requireBloodGases();
         } catch (IllegalArgumentException e) {
             System.err.println(e.getMessage()); // the options: one line, nothing was started
             System.exit(2);
+            return;
+        }
+        try {
+            bench.runAll();
         } catch (Exception | Error e) {
             e.printStackTrace();
             System.exit(1); // the services' non-daemon threads would keep the JVM alive
@@ -220,19 +226,8 @@ public final class HookLoadBenchmark {
         for (int i = 0; i < options.patients(); i++) {
             patientIds.add("load-" + run + "-" + i);
         }
-        int total = warmupCount()
-                + Arrays.stream(options.rates()).map(r -> r * options.seconds()).sum();
-        // a patient's first blood gas (PaO2) is their fifth record: with fewer, nothing is evaluated or flagged
-        if (total < 5L * options.patients()) {
-            throw new IllegalArgumentException(String.format(
-                    Locale.ROOT,
-                    "%d Observations over %d patients is fewer than 5 each, so no patient would get a blood gas and"
-                            + " nothing would be evaluated; raise --rates or --seconds, or lower --patients (at"
-                            + " least %d Observations in all)",
-                    total,
-                    options.patients(),
-                    5L * options.patients()));
-        }
+        requireBloodGases();
+        int total = totalCount();
         createPatients(patientIds);
         List<Sent> load = generate(run, patientIds, total);
         if (options.writeBack()) {
@@ -344,6 +339,30 @@ public final class HookLoadBenchmark {
 
     /** One notification body; {@code triggerOf} names the patient whose onset this blood gas is. */
     private record Sent(String id, String body, String triggerOf, boolean flagging) {}
+
+    /** Every Observation of a run: the warm-up's, then each rate for its seconds. */
+    private int totalCount() {
+        return warmupCount()
+                + Arrays.stream(options.rates()).map(r -> r * options.seconds()).sum();
+    }
+
+    /**
+     * Refuses options under which no patient gets a blood gas: a patient's first PaO2 is their fifth record, so with
+     * fewer nothing would be evaluated or flagged.
+     */
+    void requireBloodGases() {
+        int total = totalCount();
+        if (total < 5L * options.patients()) {
+            throw new IllegalArgumentException(String.format(
+                    Locale.ROOT,
+                    "%d Observations over %d patients is fewer than 5 each, so no patient would get a blood gas and"
+                            + " nothing would be evaluated; raise --rates or --seconds, or lower --patients (at"
+                            + " least %d Observations in all)",
+                    total,
+                    options.patients(),
+                    5L * options.patients()));
+        }
+    }
 
     /** The warm-up's Observations: the first rate for the warm-up seconds, and at least one per patient. */
     private int warmupCount() {
