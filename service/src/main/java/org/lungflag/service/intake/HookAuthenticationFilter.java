@@ -10,8 +10,10 @@ import org.slf4j.LoggerFactory;
 import org.springframework.web.filter.OncePerRequestFilter;
 
 /**
- * Refuses every rest-hook request without the right bearer token (401) before anything is read or stored. The
- * comparison is constant-time; neither the expected nor the offered token is logged.
+ * Refuses every rest-hook request without the right bearer token (401) before anything is read or stored. It is
+ * mapped to the hook servlet by name, not by a path test of its own: the container's mapping decides which requests
+ * reach the hook, and each of them passes here. The comparison is constant-time; neither the expected nor the
+ * offered token is logged.
  */
 public class HookAuthenticationFilter extends OncePerRequestFilter {
 
@@ -21,12 +23,6 @@ public class HookAuthenticationFilter extends OncePerRequestFilter {
 
     public HookAuthenticationFilter(HookToken token) {
         this.token = token;
-    }
-
-    @Override
-    protected boolean shouldNotFilter(HttpServletRequest request) {
-        String path = request.getRequestURI().substring(request.getContextPath().length());
-        return !(path.equals("/fhir-hook") || path.startsWith("/fhir-hook/"));
     }
 
     @Override

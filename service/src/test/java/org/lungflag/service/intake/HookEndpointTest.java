@@ -6,6 +6,7 @@ import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
+import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.lungflag.service.audit.QuarantineRepository;
 import org.springframework.beans.factory.annotation.Autowired;
@@ -129,5 +130,83 @@ class HookEndpointTest {
                 .build();
         assertThat(http.send(ping, HttpResponse.BodyHandlers.ofString()).statusCode())
                 .isEqualTo(200);
+    }
+
+    private HttpResponse<String> send(String method, String path, String token) throws Exception {
+        HttpRequest.Builder b = HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + path))
+                .method(method, HttpRequest.BodyPublishers.noBody());
+        if (token != null) {
+            b.header("Authorization", "Bearer " + token);
+        }
+        return http.send(b.build(), HttpResponse.BodyHandlers.ofString());
+    }
+
+    /**
+     * The container drops {@code ;} path parameters when it maps a request to a servlet, so these paths reach the
+     * hook. The token check is mapped to the hook servlet, not to a path test, so it refuses them without the token;
+     * with it the hook refuses them itself, as Spring Security's firewall does on every other path.
+     */
+    @Test
+    void aPathParameterNeitherGetsPastTheTokenCheckNorIsRecorded() throws Exception {
+        String body = OBSERVATION.replace("abg-1", "abg-semi");
+        for (String path : List.of(
+                "/fhir-hook;x=1/Observation/abg-semi",
+                "/fhir-hook/Observation;x=1/abg-semi",
+                "/fhir-hook/Observation/abg-semi;jsessionid=1")) {
+            assertThat(put(path, null, body).statusCode()).as(path).isEqualTo(401);
+            HttpResponse<String> withToken = put(path, "test-hook-token", body);
+            assertThat(withToken.statusCode()).as(path).isEqualTo(400);
+            assertThat(withToken.body()).contains("OperationOutcome").contains("';'");
+        }
+        assertThat(inboxRows("abg-semi")).isZero();
+    }
+
+    @Test
+    void answersOnlyWhatItServesWithAStatusAndAnOperationOutcome() throws Exception {
+        HttpResponse<String> get = send("GET", "/fhir-hook/Observation/abg-1", "test-hook-token");
+        assertThat(get.statusCode()).isEqualTo(405);
+        assertThat(get.headers().firstValue("Allow")).hasValue("PUT, DELETE");
+        HttpResponse<String> getRoot = send("GET", "/fhir-hook", "test-hook-token");
+        assertThat(getRoot.statusCode()).isEqualTo(405);
+        assertThat(getRoot.headers().firstValue("Allow")).hasValue("POST");
+        for (String path : List.of("/fhir-hook/Patient/p1", "/fhir-hook/Observation/a/b", "/fhir-hook/x")) {
+            HttpResponse<String> other = put(path, "test-hook-token", OBSERVATION);
+            assertThat(other.statusCode()).as(path).isEqualTo(404);
+            assertThat(other.body()).as(path).contains("OperationOutcome").contains("PUT and DELETE");
+        }
+        HttpResponse<String> badDelete = send("DELETE", "/fhir-hook/Observation/" + "x".repeat(65), "test-hook-token");
+        assertThat(badDelete.statusCode()).isEqualTo(400);
+        assertThat(badDelete.body()).contains("not a valid FHIR id");
+        assertThat(send("DELETE", "/fhir-hook/Observation/abg-del", null).statusCode())
+                .isEqualTo(401);
+        assertThat(inboxRows("abg-del")).isZero();
+        assertThat(send("DELETE", "/fhir-hook/Observation/abg-del", "test-hook-token")
+                        .statusCode())
+                .isEqualTo(200);
+        assertThat(inboxRows("abg-del")).isOne();
+    }
+
+    /**
+     * The hook is outside Spring Security's chain (its cost is why): its answers carry none of the chain's headers,
+     * which every other response carries.
+     */
+    @Test
+    void theHookIsServedOutsideTheSecurityChain() throws Exception {
+        HttpResponse<String> hook = send("POST", "/fhir-hook", "test-hook-token");
+        assertThat(hook.statusCode()).isEqualTo(200);
+        assertThat(hook.headers().firstValue("X-Frame-Options")).isEmpty();
+        assertThat(hook.headers().firstValue("X-Content-Type-Options")).hasValue("nosniff");
+        assertThat(send("GET", "/login", null).headers().firstValue("X-Frame-Options"))
+                .hasValue("DENY");
+    }
+
+    /** A path that leaves the hook after normalization is the security chain's: the hook token is no login. */
+    @Test
+    void aPathThatLeavesTheHookMeetsTheSecurityChain() throws Exception {
+        for (String path : List.of("/fhir-hook/../api/v1/rules", "/fhir-hook/%2e%2e/api/v1/rules")) {
+            HttpResponse<String> response = send("GET", path, "test-hook-token");
+            assertThat(response.statusCode()).as(path).isIn(400, 401);
+            assertThat(response.body()).as(path).doesNotContain("hypoxemia");
+        }
     }
 }

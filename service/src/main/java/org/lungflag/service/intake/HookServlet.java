@@ -3,7 +3,9 @@ package org.lungflag.service.intake;
 import ca.uhn.fhir.context.FhirContext;
 import ca.uhn.fhir.parser.DataFormatException;
 import ca.uhn.fhir.parser.IParser;
+import jakarta.servlet.http.HttpServlet;
 import jakarta.servlet.http.HttpServletRequest;
+import jakarta.servlet.http.HttpServletResponse;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.io.InputStream;
@@ -22,26 +24,33 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.springframework.dao.DataAccessException;
 import org.springframework.http.HttpStatus;
-import org.springframework.http.MediaType;
-import org.springframework.http.ResponseEntity;
 import org.springframework.transaction.TransactionException;
-import org.springframework.web.bind.annotation.DeleteMapping;
-import org.springframework.web.bind.annotation.PathVariable;
-import org.springframework.web.bind.annotation.PostMapping;
-import org.springframework.web.bind.annotation.PutMapping;
-import org.springframework.web.bind.annotation.RestController;
 
 /**
  * The rest-hook receiver (design.md): {@code PUT /fhir-hook/Observation/{id}} with the resource as payload, {@code
  * POST /fhir-hook} as an empty ping or an R4 backport notification Bundle, and {@code DELETE
  * /fhir-hook/Observation/{id}}. It acknowledges only after the notification is durably recorded in the inbox and
- * never evaluates on the caller's thread. The bearer token is checked by {@link HookAuthenticationFilter} first.
+ * never evaluates on the caller's thread.
+ *
+ * <p>A plain servlet of its own, not a Spring MVC controller, because it takes every notification: the load benchmark
+ * found the dispatcher, its handler lookup and Spring Security's per-request handler introspection to be more than
+ * half of the hook's CPU time. Its only caller is the FHIR server, authenticated by {@link HookAuthenticationFilter}
+ * (mapped to this servlet) before anything is read; Spring Security's chain guards every other servlet
+ * ({@code security.SecurityConfiguration}). So this servlet refuses, by itself, anything it does not serve.
  */
-@RestController
-class HookController {
+public final class HookServlet extends HttpServlet {
 
-    private static final Logger log = LoggerFactory.getLogger(HookController.class);
-    private static final MediaType FHIR_JSON = MediaType.parseMediaType("application/fhir+json");
+    /** The servlet's name in the container; the security chain's filter leaves out exactly this servlet. */
+    public static final String SERVLET_NAME = "lungflagRestHook";
+
+    /** Where it is mapped; {@link HttpServletRequest#getPathInfo()} is then the rest after {@code /fhir-hook}. */
+    static final String URL_MAPPING = "/fhir-hook/*";
+
+    private static final long serialVersionUID = 1L;
+    private static final Logger log = LoggerFactory.getLogger(HookServlet.class);
+    private static final String OBSERVATION_PATH = "/Observation/";
+    private static final String SERVES =
+            "The rest-hook takes PUT and DELETE /fhir-hook/Observation/{id} and POST /fhir-hook.";
 
     private final FhirContext fhirContext;
     private final InboxRepository inbox;
@@ -51,7 +60,7 @@ class HookController {
     private final CatchUpSearch catchUp;
     private final InboxGroupWriter groupWriter;
 
-    HookController(
+    HookServlet(
             FhirContext fhirContext,
             InboxRepository inbox,
             InboxGroupWriter groupWriter,
@@ -68,8 +77,87 @@ class HookController {
         this.catchUp = catchUp;
     }
 
-    @PutMapping("/fhir-hook/Observation/{id}")
-    ResponseEntity<String> observation(@PathVariable("id") String pathId, HttpServletRequest request) {
+    @Override
+    protected void service(HttpServletRequest request, HttpServletResponse response) throws IOException {
+        Reply reply;
+        try {
+            reply = route(request);
+        } catch (RuntimeException e) {
+            // the class and the place only: a message could quote the body
+            StackTraceElement[] at = e.getStackTrace();
+            log.error(
+                    "the rest-hook failed on a {} request ({} at {})",
+                    request.getMethod(),
+                    e.getClass().getName(),
+                    at.length > 0 ? at[0] : "an unknown place");
+            reply = refusal(
+                    HttpStatus.INTERNAL_SERVER_ERROR,
+                    "exception",
+                    "Lungflag failed while handling the notification; please retry (a repeated notification is"
+                            + " recorded once).");
+        }
+        write(reply, response);
+    }
+
+    /**
+     * Dispatches on the method and the path after {@code /fhir-hook}, which the container has decoded and normalized
+     * ({@code ..} resolved, path parameters removed). Path parameters are refused outright, as Spring Security's
+     * firewall refuses them on every other path.
+     */
+    private Reply route(HttpServletRequest request) {
+        if (request.getRequestURI().indexOf(';') >= 0) {
+            return refusal(HttpStatus.BAD_REQUEST, "structure", "The rest-hook path must not carry ';' parameters.");
+        }
+        String path = request.getPathInfo();
+        String method = request.getMethod();
+        if (path == null || path.equals("/")) {
+            return method.equals("POST") ? notification(request) : notAllowed("POST");
+        }
+        if (path.startsWith(OBSERVATION_PATH) && path.indexOf('/', OBSERVATION_PATH.length()) < 0) {
+            String id = path.substring(OBSERVATION_PATH.length());
+            return switch (method) {
+                case "PUT" -> observation(id, request);
+                case "DELETE" -> deleted(id);
+                default -> notAllowed("PUT, DELETE");
+            };
+        }
+        return refusal(HttpStatus.NOT_FOUND, "not-found", SERVES);
+    }
+
+    private static Reply notAllowed(String allow) {
+        return new Reply(
+                HttpServletResponse.SC_METHOD_NOT_ALLOWED,
+                null,
+                allow,
+                OperationOutcomes.json("error", "not-supported", SERVES));
+    }
+
+    private static void write(Reply reply, HttpServletResponse response) throws IOException {
+        response.setStatus(reply.status());
+        response.setHeader("Cache-Control", "no-store");
+        response.setHeader("X-Content-Type-Options", "nosniff");
+        if (reply.retryAfterSeconds() != null) {
+            response.setHeader("Retry-After", reply.retryAfterSeconds());
+        }
+        if (reply.allow() != null) {
+            response.setHeader("Allow", reply.allow());
+        }
+        if (reply.body() == null) {
+            response.setContentLength(0);
+            return;
+        }
+        byte[] body = reply.body().getBytes(StandardCharsets.UTF_8);
+        response.setContentType("application/fhir+json;charset=UTF-8");
+        response.setContentLength(body.length);
+        response.getOutputStream().write(body);
+    }
+
+    /** What the hook answers: a status, the optional Retry-After and Allow headers, and an OperationOutcome. */
+    private record Reply(int status, String retryAfterSeconds, String allow, String body) {
+        static final Reply OK = new Reply(HttpServletResponse.SC_OK, null, null, null);
+    }
+
+    private Reply observation(String pathId, HttpServletRequest request) {
         if (!ObservationMapper.isFhirId(pathId)) {
             // not stored as an id (it may be anything); the entry keeps an excerpt of the body instead
             String body;
@@ -154,14 +242,22 @@ class HookController {
         return record("Observation", pathId, version, InboxChannel.REST_HOOK, body);
     }
 
-    @DeleteMapping("/fhir-hook/Observation/{id}")
-    ResponseEntity<String> deleted(@PathVariable("id") String id) {
+    private Reply deleted(String id) {
+        if (!ObservationMapper.isFhirId(id)) {
+            return quarantineAndRefuse(
+                    "Observation",
+                    null,
+                    null,
+                    DataQualityReason.MALFORMED_RESOURCE,
+                    "The rest-hook path's Observation id is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and"
+                            + " '.').",
+                    null);
+        }
         // The processor reads the resource back: a 404/410 retracts its facts, anything else is processed.
         return record("Observation", id, null, InboxChannel.FETCHED, null);
     }
 
-    @PostMapping("/fhir-hook")
-    ResponseEntity<String> notification(HttpServletRequest request) {
+    private Reply notification(HttpServletRequest request) {
         String body;
         try {
             body = readBounded(request);
@@ -172,7 +268,7 @@ class HookController {
         }
         if (body.isBlank()) {
             catchUp.requestSoon();
-            return ResponseEntity.ok().build();
+            return Reply.OK;
         }
         IBaseResource resource;
         try {
@@ -199,7 +295,7 @@ class HookController {
     }
 
     /** An R4 backport notification Bundle: resources it carries are recorded; focus references are fetched. */
-    private ResponseEntity<String> recordNotificationBundle(Bundle bundle) {
+    private Reply recordNotificationBundle(Bundle bundle) {
         int recorded = 0;
         try {
             for (Bundle.BundleEntryComponent entry : bundle.getEntry()) {
@@ -253,17 +349,17 @@ class HookController {
             catchUp.requestSoon();
         }
         signal.recorded();
-        return ResponseEntity.ok().build();
+        return Reply.OK;
     }
 
-    private ResponseEntity<String> record(String type, String id, String version, InboxChannel channel, String body) {
+    private Reply record(String type, String id, String version, InboxChannel channel, String body) {
         try {
             groupWriter.add(inbox.row(type, id, version, channel, body));
         } catch (DataAccessException | TransactionException e) {
             return databaseUnavailable(e);
         }
         signal.recorded();
-        return ResponseEntity.ok().build();
+        return Reply.OK;
     }
 
     /**
@@ -271,23 +367,24 @@ class HookController {
      * the FHIR server retries; nothing was acknowledged. A connection that cannot be opened surfaces as a {@link
      * TransactionException} from the transaction manager, a failing statement as a {@link DataAccessException}.
      */
-    private ResponseEntity<String> databaseUnavailable(RuntimeException e) {
+    private Reply databaseUnavailable(RuntimeException e) {
         log.error(
                 "could not record a rest-hook notification: the audit database is unavailable ({})",
                 e.getClass().getSimpleName());
-        return ResponseEntity.status(HttpStatus.SERVICE_UNAVAILABLE)
-                .header("Retry-After", "5")
-                .contentType(FHIR_JSON)
-                .body(OperationOutcomes.json(
+        return new Reply(
+                HttpServletResponse.SC_SERVICE_UNAVAILABLE,
+                "5",
+                null,
+                OperationOutcomes.json(
                         "error", "transient", "Lungflag could not record the notification; please retry."));
     }
 
-    private ResponseEntity<String> quarantineAndRefuse(
+    private Reply quarantineAndRefuse(
             String type, String id, String version, DataQualityReason reason, String detail, String body) {
         return quarantineAndRefuse(HttpStatus.BAD_REQUEST, "invalid", type, id, version, reason, detail, body);
     }
 
-    private ResponseEntity<String> quarantineAndRefuse(
+    private Reply quarantineAndRefuse(
             HttpStatus status,
             String issueCode,
             String type,
@@ -314,8 +411,8 @@ class HookController {
         return refusal(status, issueCode, detail);
     }
 
-    private static ResponseEntity<String> refusal(HttpStatus status, String code, String detail) {
-        return ResponseEntity.status(status).contentType(FHIR_JSON).body(OperationOutcomes.json("error", code, detail));
+    private static Reply refusal(HttpStatus status, String code, String detail) {
+        return new Reply(status.value(), null, null, OperationOutcomes.json("error", code, detail));
     }
 
     private IParser parser() {
