@@ -49,6 +49,8 @@ public final class HookServlet extends HttpServlet {
     private static final long serialVersionUID = 1L;
     private static final Logger log = LoggerFactory.getLogger(HookServlet.class);
     private static final String OBSERVATION_PATH = "/Observation/";
+    private static final String PATH_ID_NOT_A_FHIR_ID =
+            "The rest-hook path's Observation id is not a valid FHIR id" + " (1 to 64 of A-Z, a-z, 0-9, '-' and '.').";
     private static final String SERVES =
             "The rest-hook takes PUT and DELETE /fhir-hook/Observation/{id} and POST /fhir-hook.";
 
@@ -167,13 +169,7 @@ public final class HookServlet extends HttpServlet {
                 body = null;
             }
             return quarantineAndRefuse(
-                    "Observation",
-                    null,
-                    null,
-                    DataQualityReason.MALFORMED_RESOURCE,
-                    "The rest-hook path's Observation id is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and"
-                            + " '.').",
-                    body);
+                    "Observation", null, null, DataQualityReason.MALFORMED_RESOURCE, PATH_ID_NOT_A_FHIR_ID, body);
         }
         String body;
         try {
@@ -245,13 +241,7 @@ public final class HookServlet extends HttpServlet {
     private Reply deleted(String id) {
         if (!ObservationMapper.isFhirId(id)) {
             return quarantineAndRefuse(
-                    "Observation",
-                    null,
-                    null,
-                    DataQualityReason.MALFORMED_RESOURCE,
-                    "The rest-hook path's Observation id is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and"
-                            + " '.').",
-                    null);
+                    "Observation", null, null, DataQualityReason.MALFORMED_RESOURCE, PATH_ID_NOT_A_FHIR_ID, null);
         }
         // The processor reads the resource back: a 404/410 retracts its facts, anything else is processed.
         return record("Observation", id, null, InboxChannel.FETCHED, null);
