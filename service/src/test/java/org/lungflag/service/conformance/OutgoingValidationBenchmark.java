@@ -29,8 +29,8 @@ public final class OutgoingValidationBenchmark {
         int passes = args.length > 1 ? Integer.parseInt(args[1]) : 3;
         FhirContext fhir = Pipelines.fhirContext();
         List<Resource> corpus = ReusingInstanceValidatorTest.corpus(new Random(11));
-        FhirValidator hapi = ConformanceValidator.validator(fhir, FhirInstanceValidator::new);
-        FhirValidator reusing = ConformanceValidator.validator(
+        FhirValidator hapi = ConformanceValidator.validatorWithAllCoreDefinitions(fhir, FhirInstanceValidator::new);
+        FhirValidator reusing = ConformanceValidator.validatorWithAllCoreDefinitions(
                 fhir, chain -> new ReusingInstanceValidator(chain, ConformanceValidator.VALIDATIONS_PER_INSTANCE));
         System.out.printf(
                 Locale.ROOT, "corpus: %d resources; %d rounds of %d passes each%n", corpus.size(), rounds, passes);

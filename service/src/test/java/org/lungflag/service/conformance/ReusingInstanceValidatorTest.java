@@ -51,7 +51,7 @@ class ReusingInstanceValidatorTest {
         corpus = corpus(new Random(11));
         System.out.println("validator equivalence corpus: " + corpus.size() + " resources, " + broken.size()
                 + " of them broken copies");
-        FhirValidator hapi = ConformanceValidator.validator(FHIR, FhirInstanceValidator::new);
+        FhirValidator hapi = ConformanceValidator.validatorWithAllCoreDefinitions(FHIR, FhirInstanceValidator::new);
         expected = new ArrayList<>();
         for (Resource r : corpus) {
             expected.add(messages(hapi, r));
@@ -156,18 +156,20 @@ class ReusingInstanceValidatorTest {
 
     @Test
     void oneReusedInstanceGivesHapisMessagesForEveryResource() {
-        check(ConformanceValidator.validator(FHIR, chain -> new ReusingInstanceValidator(chain, Integer.MAX_VALUE)));
+        check(ConformanceValidator.validatorWithAllCoreDefinitions(
+                FHIR, chain -> new ReusingInstanceValidator(chain, Integer.MAX_VALUE)));
     }
 
     @Test
     void instancesReplacedEveryFewValidationsGiveHapisMessages() {
-        check(ConformanceValidator.validator(FHIR, chain -> new ReusingInstanceValidator(chain, 5)));
+        check(ConformanceValidator.validatorWithAllCoreDefinitions(
+                FHIR, chain -> new ReusingInstanceValidator(chain, 5)));
     }
 
     @Test
     void anInstanceIsRetiredAfterItsUses() {
         List<ReusingInstanceValidator> module = new ArrayList<>();
-        FhirValidator reusing = ConformanceValidator.validator(FHIR, chain -> {
+        FhirValidator reusing = ConformanceValidator.validatorWithAllCoreDefinitions(FHIR, chain -> {
             module.add(new ReusingInstanceValidator(chain, 3));
             return module.get(0);
         });
@@ -182,7 +184,7 @@ class ReusingInstanceValidatorTest {
 
     @Test
     void severalThreadsAtOnceGiveHapisMessages() throws Exception {
-        FhirValidator reusing = ConformanceValidator.validator(
+        FhirValidator reusing = ConformanceValidator.validatorWithAllCoreDefinitions(
                 FHIR, chain -> new ReusingInstanceValidator(chain, ConformanceValidator.VALIDATIONS_PER_INSTANCE));
         ExecutorService pool = Executors.newFixedThreadPool(4);
         try {

@@ -12,10 +12,10 @@ import org.lungflag.service.offline.Pipelines;
  * Benchmark (figures, not a test): how much heap the outbox's conformance check holds. Prints the used heap after
  * full collections before the validator exists, once it is built, after one and two passes over the corpus of
  * {@code ReusingInstanceValidatorTest} (the demo's outgoing resources and broken copies), and after the validator and
- * its FhirContext are dropped. HAPI keeps the core definitions it loads on the first validation in a JVM-wide cache
- * (its default profile support's bundle strategies, held by a static map, with each definition's R5 copy in its user
- * data), so the last figure shows what stays for the life of the JVM. Run with {@code -XX:+UseSerialGC} for steady
- * figures.
+ * its FhirContext are dropped. HAPI keeps the core definitions it loads in a JVM-wide cache (its default profile
+ * support's bundle strategies, held by a static map, with each definition's R5 copy in its user data); the check keeps
+ * only the subset of {@link OutgoingCoreDefinitions} and releases that cache, so the last figure shows what still
+ * stays for the life of the JVM. Run with {@code -XX:+UseSerialGC} for steady figures.
  */
 public final class ValidatorHeapBenchmark {
 
