@@ -29,8 +29,9 @@ import org.slf4j.LoggerFactory;
  * validator per application (fhir-notes.md: the first validation loads the core definitions, several seconds).
  * HAPI's validator module is replaced by {@link ReusingInstanceValidator}, which gives the same messages without
  * building the core validator anew for every resource, and HAPI's full set of core definitions by the subset
- * {@link OutgoingCoreDefinitions} keeps, which gives the same messages in less than half the heap. Unknown code systems (LOINC, SNOMED CT, MDC without a
- * terminology server) are warnings; a code outside an enumerated ValueSet stays an error.
+ * {@link OutgoingCoreDefinitions} keeps, which gives the same messages in less than half the heap. Unknown code
+ * systems (LOINC, SNOMED CT, MDC without a terminology server) are warnings; a code outside an enumerated ValueSet
+ * stays an error.
  */
 public final class ConformanceValidator implements OutgoingValidator {
 

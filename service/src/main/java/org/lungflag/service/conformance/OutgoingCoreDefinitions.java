@@ -6,9 +6,11 @@ import ca.uhn.fhir.context.support.IValidationSupport;
 import java.util.ArrayDeque;
 import java.util.Deque;
 import java.util.HashMap;
+import java.util.HashSet;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import org.hl7.fhir.common.hapi.validation.support.PrePopulatedValidationSupport;
 import org.hl7.fhir.instance.model.api.IBaseResource;
 import org.hl7.fhir.r4.model.CodeSystem;
@@ -87,7 +89,7 @@ final class OutgoingCoreDefinitions {
         final Map<String, StructureDefinition> structureDefinitions = new LinkedHashMap<>();
         final Map<String, ValueSet> valueSets = new LinkedHashMap<>();
         final Map<String, CodeSystem> codeSystems = new LinkedHashMap<>();
-        private final Map<String, Boolean> seen = new HashMap<>();
+        private final Set<String> seen = new HashSet<>();
         private final Deque<StructureDefinition> toFollow = new ArrayDeque<>();
 
         Collector(
@@ -100,7 +102,7 @@ final class OutgoingCoreDefinitions {
         }
 
         void follow(StructureDefinition sd) {
-            if (seen.put("sd " + sd.getUrl(), Boolean.TRUE) == null) {
+            if (seen.add("sd " + sd.getUrl())) {
                 toFollow.add(sd);
             }
         }
@@ -150,7 +152,7 @@ final class OutgoingCoreDefinitions {
 
         private void valueSet(String canonical) {
             String url = withoutVersion(canonical);
-            if (seen.put("vs " + url, Boolean.TRUE) != null) {
+            if (!seen.add("vs " + url)) {
                 return;
             }
             IBaseResource found = conformancePackage.fetchValueSet(url);
@@ -177,7 +179,7 @@ final class OutgoingCoreDefinitions {
 
         private void codeSystem(String canonical) {
             String url = withoutVersion(canonical);
-            if (seen.put("cs " + url, Boolean.TRUE) != null || conformancePackage.fetchCodeSystem(url) != null) {
+            if (!seen.add("cs " + url) || conformancePackage.fetchCodeSystem(url) != null) {
                 return;
             }
             if (core.fetchCodeSystem(url) instanceof CodeSystem cs) {

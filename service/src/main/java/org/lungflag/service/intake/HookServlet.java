@@ -50,7 +50,7 @@ public final class HookServlet extends HttpServlet {
     private static final Logger log = LoggerFactory.getLogger(HookServlet.class);
     private static final String OBSERVATION_PATH = "/Observation/";
     private static final String PATH_ID_NOT_A_FHIR_ID =
-            "The rest-hook path's Observation id is not a valid FHIR id" + " (1 to 64 of A-Z, a-z, 0-9, '-' and '.').";
+            "The rest-hook path's Observation id is not a valid FHIR id (1 to 64 of A-Z, a-z, 0-9, '-' and '.').";
     private static final String SERVES =
             "The rest-hook takes PUT and DELETE /fhir-hook/Observation/{id} and POST /fhir-hook.";
 
